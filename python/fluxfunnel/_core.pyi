@@ -1,0 +1,29 @@
+# Hand-written stub of the compiled module fluxfunnel._core.
+# Checked by `python -m mypy.stubtest fluxfunnel._core`.
+# One section per stage, in pipeline order. Arrays are float64 unless stated.
+
+import numpy as np  # noqa: F401  (used by the stage sections)
+from numpy.typing import NDArray  # noqa: F401
+
+__version__: str
+
+# --- binding-layer diagnostics -------------------------------------------------------------------------------
+
+def _busy_wait(seconds: float) -> float: ...
+def _raise_core_error(kind: str) -> None: ...
+
+# --- objects ------------------------------------------------------------
+
+# --- disk ------------------------------------------------------------
+
+# --- stats ------------------------------------------------------------
+
+# --- closure ------------------------------------------------------------
+
+# --- measure ------------------------------------------------------------
+
+# --- vertical ------------------------------------------------------------
+
+# --- flux ------------------------------------------------------------
+
+# --- population ------------------------------------------------------------

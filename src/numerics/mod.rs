@@ -1,0 +1,6 @@
+//! Numerical tools shared by several stages: cancellation, argument checks, parallel chunking.
+
+pub mod cancel;
+pub mod checks;
+
+pub use cancel::Cancel;
