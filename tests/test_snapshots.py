@@ -1,11 +1,10 @@
 """Snapshot readers: memory-mapped access and slab-by-slab one-point statistics."""
 
+import h5py
 import numpy as np
 import pytest
 from fluxfunnel import InputError
 from fluxfunnel.snapshots import one_point_profiles, open_snapshot
-
-h5py = pytest.importorskip("h5py")
 
 
 def _fields(seed=1, shape=(12, 10, 8), dtype=np.float64):
