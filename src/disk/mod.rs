@@ -21,7 +21,7 @@ use ndarray::{ArrayD, ArrayViewD, Zip};
 use crate::constants::{A_RAD, G, K_B, M_P, SIGMA_SB, SIGMA_T};
 use crate::error::{CoreError, CoreResult};
 use crate::numerics::checks;
-use crate::numerics::elementwise::{map1, map2, PARALLEL_THRESHOLD};
+use crate::numerics::elementwise::{same_shape, PARALLEL_THRESHOLD};
 
 use std::f64::consts::PI;
 
@@ -252,14 +252,13 @@ impl AlphaDisk {
         }
     }
 
-    /// The assumption ratios at radius `r > r_in` \[cm\].
-    pub fn validity_at(&self, r: f64) -> Validity {
-        let s = self.state(r);
+    /// The assumption ratios of a solved state.
+    pub fn validity_of(&self, s: &DiskState) -> Validity {
         let kappa_es = SIGMA_T * (1.0 + self.hydrogen_fraction) / (2.0 * M_P);
-        let kappa_kr = self.kappa0 * s.density * s.temperature.powf(-3.5);
+        let kappa_kramers = s.optical_depth / s.surface_density;
         Validity {
             radiation_to_gas_pressure: A_RAD * s.temperature.powi(4) / 3.0 / s.pressure,
-            scattering_to_kramers_opacity: kappa_es / kappa_kr,
+            scattering_to_kramers_opacity: kappa_es / kappa_kramers,
             optical_depth: s.optical_depth,
         }
     }
@@ -278,10 +277,39 @@ impl AlphaDisk {
         Ok(())
     }
 
-    /// One quantity at every radius of `r` \[cm\].
-    pub fn profile(&self, r: &ArrayViewD<'_, f64>, q: Quantity) -> CoreResult<ArrayD<f64>> {
+    /// `out[i] = f(state(r[i]), r[i], w[i])` in one pass that also records the worst assumption ratios.
+    fn evaluate<F>(
+        &self,
+        r: &ArrayViewD<'_, f64>,
+        w: &ArrayViewD<'_, f64>,
+        f: F,
+    ) -> (ArrayD<f64>, Validity)
+    where
+        F: Fn(&DiskState, f64, f64) -> f64 + Sync + Send,
+    {
+        let mut out = ArrayD::<f64>::zeros(r.raw_dim());
+        let zip = Zip::from(&mut out).and(r).and(w);
+        let fold = |acc: Validity, o: &mut f64, &x: &f64, &y: &f64| {
+            let s = self.state(x);
+            *o = f(&s, x, y);
+            acc.worst(&self.validity_of(&s))
+        };
+        let worst = if r.len() >= PARALLEL_THRESHOLD {
+            zip.par_fold(Validity::best, fold, |a, b| a.worst(&b))
+        } else {
+            zip.fold(Validity::best(), fold)
+        };
+        (out, worst)
+    }
+
+    /// One quantity at every radius of `r` \[cm\], and the worst assumption ratios met on the way.
+    pub fn profile(
+        &self,
+        r: &ArrayViewD<'_, f64>,
+        q: Quantity,
+    ) -> CoreResult<(ArrayD<f64>, Validity)> {
         self.check_radii(r)?;
-        Ok(map1(r, |x| q.of(&self.state(x), x)))
+        Ok(self.evaluate(r, r, |s, x, _| q.of(s, x)))
     }
 
     /// Density \[g cm^-3\] at `(r, z)` (arrays of one shape) for the chosen vertical profile.
@@ -290,9 +318,10 @@ impl AlphaDisk {
         r: &ArrayViewD<'_, f64>,
         z: &ArrayViewD<'_, f64>,
         vertical: Vertical,
-    ) -> CoreResult<ArrayD<f64>> {
+    ) -> CoreResult<(ArrayD<f64>, Validity)> {
         self.check_radii(r)?;
         checks::finite("z", z.iter())?;
+        same_shape("r", r, "z", z)?;
         let polytrope_norm = match vertical {
             Vertical::Gaussian => 0.0,
             Vertical::Polytropic(n) => {
@@ -306,24 +335,21 @@ impl AlphaDisk {
                 (0.5 * PI.ln() + libm::lgamma(n + 1.0) - libm::lgamma(n + 1.5)).exp()
             }
         };
-        map2(["r", "z"], r, z, |x, height| {
-            let s = self.state(x);
-            match vertical {
-                Vertical::Gaussian => {
-                    let u = height / s.scale_height;
-                    s.surface_density / ((2.0 * PI).sqrt() * s.scale_height) * (-0.5 * u * u).exp()
-                }
-                Vertical::Polytropic(n) => {
-                    let top = (2.0 * (n + 1.0)).sqrt() * s.scale_height;
-                    let u = height / top;
-                    if u.abs() >= 1.0 {
-                        0.0
-                    } else {
-                        s.surface_density / (top * polytrope_norm) * (1.0 - u * u).powf(n)
-                    }
+        Ok(self.evaluate(r, z, |s, _, height| match vertical {
+            Vertical::Gaussian => {
+                let u = height / s.scale_height;
+                s.surface_density / ((2.0 * PI).sqrt() * s.scale_height) * (-0.5 * u * u).exp()
+            }
+            Vertical::Polytropic(n) => {
+                let top = (2.0 * (n + 1.0)).sqrt() * s.scale_height;
+                let u = height / top;
+                if u.abs() >= 1.0 {
+                    0.0
+                } else {
+                    s.surface_density / (top * polytrope_norm) * (1.0 - u * u).powf(n)
                 }
             }
-        })
+        }))
     }
 
     /// Midplane plasma beta `8 pi P_c / b_z^2` for a vertical field `b_z` \[G\] (same shape as `r`).
@@ -331,12 +357,11 @@ impl AlphaDisk {
         &self,
         r: &ArrayViewD<'_, f64>,
         b_z: &ArrayViewD<'_, f64>,
-    ) -> CoreResult<ArrayD<f64>> {
+    ) -> CoreResult<(ArrayD<f64>, Validity)> {
         self.check_radii(r)?;
         checks::finite("b_z", b_z.iter())?;
-        map2(["r", "b_z"], r, b_z, |x, b| {
-            8.0 * PI * self.state(x).pressure / (b * b)
-        })
+        same_shape("r", r, "b_z", b_z)?;
+        Ok(self.evaluate(r, b_z, |s, _, b| 8.0 * PI * s.pressure / (b * b)))
     }
 
     /// The three assumption ratios at every radius of `r`.
@@ -347,7 +372,7 @@ impl AlphaDisk {
         let mut tau = ArrayD::<f64>::zeros(r.raw_dim());
         let zip = Zip::from(&mut prad).and(&mut kes).and(&mut tau).and(r);
         let kernel = |p: &mut f64, k: &mut f64, t: &mut f64, &x: &f64| {
-            let v = self.validity_at(x);
+            let v = self.validity_of(&self.state(x));
             (*p, *k, *t) = (
                 v.radiation_to_gas_pressure,
                 v.scattering_to_kramers_opacity,
@@ -360,6 +385,37 @@ impl AlphaDisk {
             zip.for_each(kernel);
         }
         Ok([prad, kes, tau])
+    }
+}
+
+impl Validity {
+    /// The identity of [`Validity::worst`]: no radiation pressure, no scattering, infinite depth.
+    pub fn best() -> Self {
+        Self {
+            radiation_to_gas_pressure: 0.0,
+            scattering_to_kramers_opacity: 0.0,
+            optical_depth: f64::INFINITY,
+        }
+    }
+
+    /// Element-wise worst of two: the larger ratios and the smaller optical depth.
+    pub fn worst(&self, other: &Self) -> Self {
+        Self {
+            radiation_to_gas_pressure: self
+                .radiation_to_gas_pressure
+                .max(other.radiation_to_gas_pressure),
+            scattering_to_kramers_opacity: self
+                .scattering_to_kramers_opacity
+                .max(other.scattering_to_kramers_opacity),
+            optical_depth: self.optical_depth.min(other.optical_depth),
+        }
+    }
+
+    /// Whether the gas-pressure, Kramers-opacity, optically thick assumptions all hold.
+    pub fn holds(&self) -> bool {
+        self.radiation_to_gas_pressure <= 1.0
+            && self.scattering_to_kramers_opacity <= 1.0
+            && self.optical_depth >= 1.0
     }
 }
 
@@ -429,8 +485,8 @@ mod tests {
         let r = arr1(&[5e9, 5e9, 5e9]).into_dyn();
         let s = d.state(5e9);
         let z = arr1(&[0.0, 0.7 * s.scale_height, 1.5 * s.scale_height]).into_dyn();
-        let gauss = d.density(&r.view(), &z.view(), Vertical::Gaussian).unwrap();
-        let poly = d
+        let (gauss, _) = d.density(&r.view(), &z.view(), Vertical::Gaussian).unwrap();
+        let (poly, _) = d
             .density(&r.view(), &z.view(), Vertical::Polytropic(2000.0))
             .unwrap();
         assert_relative_eq!(gauss[0], s.density, max_relative = 1e-12);
@@ -479,5 +535,23 @@ mod tests {
         let [prad, kes, _] = d.validity(&r.view()).unwrap();
         assert!(prad[0] > 1.0 && prad[1] < prad[0]);
         assert!(kes[0] > 1.0 && kes[1] < kes[0]);
+        // The one-pass worst ratios of a profile agree with the point-wise ratios.
+        let (_, worst) = d.profile(&r.view(), Quantity::SurfaceDensity).unwrap();
+        assert_eq!(worst.radiation_to_gas_pressure, prad[0]);
+        assert_eq!(worst.scattering_to_kramers_opacity, kes[0]);
+        assert!(!worst.holds());
+        let big = ArrayD::from_shape_fn(IxDyn(&[PARALLEL_THRESHOLD + 1]), |i| {
+            1e8 + 1e6 * i[0] as f64
+        });
+        let (_, w) = d.profile(&big.view(), Quantity::Omega).unwrap();
+        let [p, _, t] = d.validity(&big.view()).unwrap();
+        assert_eq!(
+            w.radiation_to_gas_pressure,
+            p.fold(0.0, |a: f64, &b| a.max(b))
+        );
+        assert_eq!(
+            w.optical_depth,
+            t.fold(f64::INFINITY, |a: f64, &b| a.min(b))
+        );
     }
 }

@@ -4,10 +4,20 @@ use numpy::{IntoPyArray, PyArrayDyn, PyReadonlyArrayDyn};
 use pyo3::prelude::*;
 
 use super::run::run_short;
-use crate::disk::{AlphaDisk, Quantity, Vertical};
+use crate::disk::{AlphaDisk, Quantity, Validity, Vertical};
 
 type In<'py> = PyReadonlyArrayDyn<'py, f64>;
-type Out<'py> = PyResult<Bound<'py, PyArrayDyn<f64>>>;
+type Out<'py> = PyResult<(Bound<'py, PyArrayDyn<f64>>, Worst)>;
+/// Worst radiation-to-gas pressure, scattering-to-Kramers opacity and optical depth met.
+type Worst = (f64, f64, f64);
+
+fn worst(v: Validity) -> Worst {
+    (
+        v.radiation_to_gas_pressure,
+        v.scattering_to_kramers_opacity,
+        v.optical_depth,
+    )
+}
 type Triple<'py> = (
     Bound<'py, PyArrayDyn<f64>>,
     Bound<'py, PyArrayDyn<f64>>,
@@ -47,11 +57,12 @@ impl AlphaDiskCore {
         Ok(Self { disk })
     }
 
-    /// One named quantity at every radius `r` [cm].
+    /// One named quantity at every radius `r` [cm], with the worst assumption ratios met.
     fn profile<'py>(&self, py: Python<'py>, r: In<'py>, quantity: &str) -> Out<'py> {
         let q = Quantity::from_name(quantity)?;
         let rv = r.as_array();
-        Ok(run_short(py, || self.disk.profile(&rv, q))?.into_pyarray(py))
+        let (out, w) = run_short(py, || self.disk.profile(&rv, q))?;
+        Ok((out.into_pyarray(py), worst(w)))
     }
 
     /// Density [g/cm^3] at (r, z) of one shape; Gaussian when `polytropic_index` is None.
@@ -65,13 +76,15 @@ impl AlphaDiskCore {
     ) -> Out<'py> {
         let vertical = polytropic_index.map_or(Vertical::Gaussian, Vertical::Polytropic);
         let (rv, zv) = (r.as_array(), z.as_array());
-        Ok(run_short(py, || self.disk.density(&rv, &zv, vertical))?.into_pyarray(py))
+        let (out, w) = run_short(py, || self.disk.density(&rv, &zv, vertical))?;
+        Ok((out.into_pyarray(py), worst(w)))
     }
 
     /// Midplane plasma beta for a vertical field `b_z` [G] of the shape of `r`.
     fn plasma_beta<'py>(&self, py: Python<'py>, r: In<'py>, b_z: In<'py>) -> Out<'py> {
         let (rv, bv) = (r.as_array(), b_z.as_array());
-        Ok(run_short(py, || self.disk.plasma_beta(&rv, &bv))?.into_pyarray(py))
+        let (out, w) = run_short(py, || self.disk.plasma_beta(&rv, &bv))?;
+        Ok((out.into_pyarray(py), worst(w)))
     }
 
     /// Radiation-to-gas pressure, scattering-to-Kramers opacity and optical depth at every radius.
