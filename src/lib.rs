@@ -5,8 +5,10 @@
 //! only registers what `py` provides.
 
 pub mod constants;
+pub mod disk;
 pub mod error;
 pub mod numerics;
+pub mod objects;
 pub mod py;
 
 use pyo3::prelude::*;

@@ -2,7 +2,9 @@
 //! helper that runs long work without the GIL. Nothing outside this folder uses pyo3.
 
 pub mod diagnostics;
+pub mod disk;
 pub mod errors;
+pub mod objects;
 pub mod run;
 
 use pyo3::prelude::*;
@@ -10,5 +12,7 @@ use pyo3::prelude::*;
 /// Register every stage's functions on the `_core` module.
 pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     diagnostics::register(m)?;
+    objects::register(m)?;
+    disk::register(m)?;
     Ok(())
 }
