@@ -2,8 +2,10 @@
 
 `AlphaDisk` solves the defining equations of the thin, steady, optically thick alpha disk at every radius
 asked for (no tabulated power-law coefficients), and warns with `AssumptionWarning` wherever its own
-assumptions fail: radiation pressure above gas pressure, electron scattering above Kramers opacity, or an
-optically thin disk. Every number it returns is a model prediction under those assumptions. CGS units.
+assumptions fail: radiation pressure above gas pressure, electron scattering above Kramers opacity, an
+optically thin disk, or a midplane too cold for ionised gas (where Kramers opacity and the mean molecular
+weight of ionised gas stop applying). Every number it returns is a model prediction under those
+assumptions. CGS units.
 
 References
 ----------
@@ -37,7 +39,8 @@ class AssumptionWarning(UserWarning):
     """The disk model was evaluated where one of its own assumptions fails.
 
     Raised (as a warning) when radiation pressure exceeds gas pressure, electron scattering exceeds the
-    Kramers opacity, or the vertical optical depth falls below one, anywhere in the radii asked for. The
+    Kramers opacity, the vertical optical depth falls below one, or the midplane temperature falls below the
+    ionisation temperature, anywhere in the radii asked for. The
     values returned there are still those of the gas-pressure / Kramers model, which no longer describes
     the disk; `AlphaDisk.validity` gives the ratios.
     """
@@ -55,13 +58,16 @@ class DiskValidity:
         :math:`0.2(1 + X) / (\kappa_0 \rho_c T_c^{-7/2})`; the model needs it below 1.
     optical_depth : float or ndarray
         :math:`\tau = \Sigma \kappa`; the model needs it above 1.
+    ionisation_to_midplane_temperature : float or ndarray
+        :math:`T_\mathrm{ion} / T_c`; the model needs it below 1 (ionised hydrogen).
     holds : bool or ndarray of bool
-        Where all three conditions hold.
+        Where all four conditions hold.
     """
 
     radiation_to_gas_pressure: Any
     scattering_to_kramers_opacity: Any
     optical_depth: Any
+    ionisation_to_midplane_temperature: Any
     holds: Any
 
     def __repr__(self) -> str:
@@ -69,7 +75,9 @@ class DiskValidity:
             return (
                 f"DiskValidity(radiation_to_gas_pressure={self.radiation_to_gas_pressure:.3g}, "
                 f"scattering_to_kramers_opacity={self.scattering_to_kramers_opacity:.3g}, "
-                f"optical_depth={self.optical_depth:.3g}, holds={self.holds})"
+                f"optical_depth={self.optical_depth:.3g}, "
+                f"ionisation_to_midplane_temperature={self.ionisation_to_midplane_temperature:.3g}, "
+                f"holds={self.holds})"
             )
         return f"DiskValidity(shape={self.holds.shape}, holds everywhere={bool(self.holds.all())})"
 
@@ -113,6 +121,10 @@ class AlphaDisk:
     hydrogen_fraction : float, keyword-only
         Hydrogen mass fraction :math:`X`, for the electron-scattering opacity :math:`0.2(1+X)` used only
         by the validity check.
+    ionisation_temperature : float, keyword-only
+        Midplane temperature [K] below which the gas is taken as no longer ionised, used only by the
+        validity check. Default 1e4 K: common practice (no single source) for where Kramers opacity of
+        ionised gas gives way to H-minus, molecular and dust opacities.
     midplane : {"gaussian", "one-zone"}, keyword-only
         Midplane-density convention, see above.
 
@@ -137,6 +149,7 @@ class AlphaDisk:
         kappa0: float = KRAMERS_COEFFICIENT,
         hydrogen_fraction: float = 0.7,
         midplane: Literal["gaussian", "one-zone"] = "gaussian",
+        ionisation_temperature: float = 1.0e4,
     ) -> None:
         if midplane not in _MIDPLANE:
             raise InputError(f"midplane: must be one of {sorted(_MIDPLANE)}, got {midplane!r}")
@@ -149,6 +162,7 @@ class AlphaDisk:
             ("mu", mu, None),
             ("kappa0", kappa0, None),
             ("hydrogen_fraction", hydrogen_fraction, None),
+            ("ionisation_temperature", ionisation_temperature, "K"),
         ):
             arr = as_float(name, value, unit=unit)
             if arr.ndim != 0:
@@ -162,6 +176,7 @@ class AlphaDisk:
         self.kappa0: float = values["kappa0"]
         self.hydrogen_fraction: float = values["hydrogen_fraction"]
         self.midplane: str = midplane
+        self.ionisation_temperature: float = values["ionisation_temperature"]
         self._core = _core.AlphaDiskCore(
             self.mass,
             self.mdot,
@@ -171,6 +186,7 @@ class AlphaDisk:
             self.kappa0,
             self.hydrogen_fraction,
             _MIDPLANE[midplane],
+            self.ionisation_temperature,
         )
 
     def __repr__(self) -> str:
@@ -182,8 +198,8 @@ class AlphaDisk:
     # -- evaluation helpers ---------------------------------------------------------------------------------
 
     @staticmethod
-    def _warn(worst: tuple[float, float, float], stacklevel: int = 3) -> None:
-        prad, kes, tau = worst
+    def _warn(worst: tuple[float, float, float, float], stacklevel: int = 3) -> None:
+        prad, kes, tau, cold = worst
         problems = []
         if prad > 1.0:
             problems.append(f"radiation pressure reaches {prad:.3g} x gas pressure")
@@ -191,6 +207,8 @@ class AlphaDisk:
             problems.append(f"electron scattering reaches {kes:.3g} x Kramers opacity")
         if tau < 1.0:
             problems.append(f"optical depth falls to {tau:.3g}")
+        if cold > 1.0:
+            problems.append(f"midplane temperature falls to 1/{cold:.3g} of the ionisation temperature")
         if problems:
             warnings.warn(
                 "gas-pressure / Kramers alpha disk evaluated outside its assumptions: "
@@ -325,7 +343,8 @@ class AlphaDisk:
         Returns
         -------
         DiskValidity
-            Radiation-to-gas pressure, scattering-to-Kramers opacity, optical depth, and where all hold.
+            Radiation-to-gas pressure, scattering-to-Kramers opacity, optical depth, ionisation-to-midplane
+            temperature, and where all hold.
 
         Examples
         --------
@@ -334,8 +353,8 @@ class AlphaDisk:
         True
         """
         arr = as_float("r", r, unit="cm")
-        prad, kes, tau = self._core.validity(arr)
-        holds = (prad <= 1.0) & (kes <= 1.0) & (tau >= 1.0)
+        prad, kes, tau, cold = self._core.validity(arr)
+        holds = (prad <= 1.0) & (kes <= 1.0) & (tau >= 1.0) & (cold <= 1.0)
         if np.ndim(r) == 0:
-            return DiskValidity(float(prad), float(kes), float(tau), bool(holds))
-        return DiskValidity(prad, kes, tau, holds)
+            return DiskValidity(float(prad), float(kes), float(tau), float(cold), bool(holds))
+        return DiskValidity(prad, kes, tau, cold, holds)

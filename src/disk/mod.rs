@@ -44,6 +44,9 @@ pub struct AlphaDisk {
     pub hydrogen_fraction: f64,
     /// Midplane convention `g` in `rho_c = Sigma / (g H)`: `sqrt(2 pi)` (Gaussian) or 1 (one-zone).
     pub midplane_factor: f64,
+    /// Temperature \[K\] below which hydrogen recombines and Kramers opacity (and `mu` of ionised gas)
+    /// no longer apply; used only by the validity check.
+    pub ionisation_temperature: f64,
 }
 
 /// Every quantity of the disk at one radius.
@@ -162,6 +165,8 @@ pub struct Validity {
     pub scattering_to_kramers_opacity: f64,
     /// Vertical optical depth `Sigma kappa` (the model needs it large).
     pub optical_depth: f64,
+    /// Ionisation over midplane temperature, `T_ion / T_c` (the model needs it below 1).
+    pub ionisation_to_midplane_temperature: f64,
 }
 
 impl AlphaDisk {
@@ -176,6 +181,7 @@ impl AlphaDisk {
         kappa0: f64,
         hydrogen_fraction: f64,
         midplane_factor: f64,
+        ionisation_temperature: f64,
     ) -> CoreResult<Self> {
         for (name, v) in [
             ("mass", mass),
@@ -188,6 +194,7 @@ impl AlphaDisk {
         ] {
             checks::positive(name, [v].iter())?;
         }
+        checks::non_negative("ionisation_temperature", [ionisation_temperature].iter())?;
         if alpha > 1.0 {
             return Err(CoreError::input(
                 "alpha",
@@ -209,6 +216,7 @@ impl AlphaDisk {
             kappa0,
             hydrogen_fraction,
             midplane_factor,
+            ionisation_temperature,
         })
     }
 
@@ -260,6 +268,7 @@ impl AlphaDisk {
             radiation_to_gas_pressure: A_RAD * s.temperature.powi(4) / 3.0 / s.pressure,
             scattering_to_kramers_opacity: kappa_es / kappa_kramers,
             optical_depth: s.optical_depth,
+            ionisation_to_midplane_temperature: self.ionisation_temperature / s.temperature,
         }
     }
 
@@ -364,19 +373,25 @@ impl AlphaDisk {
         Ok(self.evaluate(r, b_z, |s, _, b| 8.0 * PI * s.pressure / (b * b)))
     }
 
-    /// The three assumption ratios at every radius of `r`.
-    pub fn validity(&self, r: &ArrayViewD<'_, f64>) -> CoreResult<[ArrayD<f64>; 3]> {
+    /// The four assumption ratios at every radius of `r`.
+    pub fn validity(&self, r: &ArrayViewD<'_, f64>) -> CoreResult<[ArrayD<f64>; 4]> {
         self.check_radii(r)?;
         let mut prad = ArrayD::<f64>::zeros(r.raw_dim());
         let mut kes = ArrayD::<f64>::zeros(r.raw_dim());
         let mut tau = ArrayD::<f64>::zeros(r.raw_dim());
-        let zip = Zip::from(&mut prad).and(&mut kes).and(&mut tau).and(r);
-        let kernel = |p: &mut f64, k: &mut f64, t: &mut f64, &x: &f64| {
+        let mut cold = ArrayD::<f64>::zeros(r.raw_dim());
+        let zip = Zip::from(&mut prad)
+            .and(&mut kes)
+            .and(&mut tau)
+            .and(&mut cold)
+            .and(r);
+        let kernel = |p: &mut f64, k: &mut f64, t: &mut f64, c: &mut f64, &x: &f64| {
             let v = self.validity_of(&self.state(x));
-            (*p, *k, *t) = (
+            (*p, *k, *t, *c) = (
                 v.radiation_to_gas_pressure,
                 v.scattering_to_kramers_opacity,
                 v.optical_depth,
+                v.ionisation_to_midplane_temperature,
             );
         };
         if r.len() >= PARALLEL_THRESHOLD {
@@ -384,7 +399,7 @@ impl AlphaDisk {
         } else {
             zip.for_each(kernel);
         }
-        Ok([prad, kes, tau])
+        Ok([prad, kes, tau, cold])
     }
 }
 
@@ -395,6 +410,7 @@ impl Validity {
             radiation_to_gas_pressure: 0.0,
             scattering_to_kramers_opacity: 0.0,
             optical_depth: f64::INFINITY,
+            ionisation_to_midplane_temperature: 0.0,
         }
     }
 
@@ -408,14 +424,18 @@ impl Validity {
                 .scattering_to_kramers_opacity
                 .max(other.scattering_to_kramers_opacity),
             optical_depth: self.optical_depth.min(other.optical_depth),
+            ionisation_to_midplane_temperature: self
+                .ionisation_to_midplane_temperature
+                .max(other.ionisation_to_midplane_temperature),
         }
     }
 
-    /// Whether the gas-pressure, Kramers-opacity, optically thick assumptions all hold.
+    /// Whether the gas-pressure, Kramers-opacity, optically thick, ionised assumptions all hold.
     pub fn holds(&self) -> bool {
         self.radiation_to_gas_pressure <= 1.0
             && self.scattering_to_kramers_opacity <= 1.0
             && self.optical_depth >= 1.0
+            && self.ionisation_to_midplane_temperature <= 1.0
     }
 }
 
@@ -427,7 +447,7 @@ mod tests {
     use ndarray::{arr1, IxDyn};
 
     fn fkr_disk(g: f64) -> AlphaDisk {
-        AlphaDisk::new(M_SUN, 1e16, 0.1, 1e9, 0.615, 5e24, 0.7, g).unwrap()
+        AlphaDisk::new(M_SUN, 1e16, 0.1, 1e9, 0.615, 5e24, 0.7, g, 1e4).unwrap()
     }
 
     #[test]
@@ -468,7 +488,7 @@ mod tests {
     fn one_zone_disk_is_near_the_textbook_coefficients() {
         // Source: Frank, King & Raine 2002 eq. 5.49 (coefficients recalled, PHYSICS.md Part B section 4 [mem-M]);
         // the printed set is not self-consistent, so only a factor of two is asked for.
-        let d = AlphaDisk::new(M_SUN, 1e16, 1.0, 1.0, 0.615, 5e24, 0.7, 1.0).unwrap();
+        let d = AlphaDisk::new(M_SUN, 1e16, 1.0, 1.0, 0.615, 5e24, 0.7, 1.0, 1e4).unwrap();
         let s = d.state(1e10);
         for (got, book) in [
             (s.surface_density, 5.2),
@@ -497,14 +517,18 @@ mod tests {
 
     #[test]
     fn bad_input_names_the_argument() {
-        assert!(AlphaDisk::new(-1.0, 1e16, 0.1, 1e9, 0.6, 5e24, 0.7, 1.0)
-            .unwrap_err()
-            .to_string()
-            .starts_with("mass:"));
-        assert!(AlphaDisk::new(1.0, 1e16, 1.5, 1e9, 0.6, 5e24, 0.7, 1.0)
-            .unwrap_err()
-            .to_string()
-            .starts_with("alpha:"));
+        assert!(
+            AlphaDisk::new(-1.0, 1e16, 0.1, 1e9, 0.6, 5e24, 0.7, 1.0, 1e4)
+                .unwrap_err()
+                .to_string()
+                .starts_with("mass:")
+        );
+        assert!(
+            AlphaDisk::new(1.0, 1e16, 1.5, 1e9, 0.6, 5e24, 0.7, 1.0, 1e4)
+                .unwrap_err()
+                .to_string()
+                .starts_with("alpha:")
+        );
         let d = fkr_disk(1.0);
         let r = arr1(&[2e9, 5e8]).into_dyn();
         let e = d.profile(&r.view(), Quantity::SurfaceDensity).unwrap_err();
@@ -529,10 +553,11 @@ mod tests {
             5e24,
             0.7,
             (2.0 * PI).sqrt(),
+            1e4,
         )
         .unwrap();
         let r = arr1(&[1e8, 1e10]).into_dyn();
-        let [prad, kes, _] = d.validity(&r.view()).unwrap();
+        let [prad, kes, _, _] = d.validity(&r.view()).unwrap();
         assert!(prad[0] > 1.0 && prad[1] < prad[0]);
         assert!(kes[0] > 1.0 && kes[1] < kes[0]);
         // The one-pass worst ratios of a profile agree with the point-wise ratios.
@@ -544,7 +569,7 @@ mod tests {
             1e8 + 1e6 * i[0] as f64
         });
         let (_, w) = d.profile(&big.view(), Quantity::Omega).unwrap();
-        let [p, _, t] = d.validity(&big.view()).unwrap();
+        let [p, _, t, _] = d.validity(&big.view()).unwrap();
         assert_eq!(
             w.radiation_to_gas_pressure,
             p.fold(0.0, |a: f64, &b| a.max(b))

@@ -8,21 +8,24 @@ use crate::disk::{AlphaDisk, Quantity, Validity, Vertical};
 
 type In<'py> = PyReadonlyArrayDyn<'py, f64>;
 type Out<'py> = PyResult<(Bound<'py, PyArrayDyn<f64>>, Worst)>;
-/// Worst radiation-to-gas pressure, scattering-to-Kramers opacity and optical depth met.
-type Worst = (f64, f64, f64);
+/// Worst radiation-to-gas pressure, scattering-to-Kramers opacity, optical depth and ionisation-to-midplane
+/// temperature met.
+type Worst = (f64, f64, f64, f64);
+type Quad<'py> = (
+    Bound<'py, PyArrayDyn<f64>>,
+    Bound<'py, PyArrayDyn<f64>>,
+    Bound<'py, PyArrayDyn<f64>>,
+    Bound<'py, PyArrayDyn<f64>>,
+);
 
 fn worst(v: Validity) -> Worst {
     (
         v.radiation_to_gas_pressure,
         v.scattering_to_kramers_opacity,
         v.optical_depth,
+        v.ionisation_to_midplane_temperature,
     )
 }
-type Triple<'py> = (
-    Bound<'py, PyArrayDyn<f64>>,
-    Bound<'py, PyArrayDyn<f64>>,
-    Bound<'py, PyArrayDyn<f64>>,
-);
 
 /// The steady gas-pressure / Kramers-opacity alpha disk of `crate::disk` (CGS).
 #[pyclass(frozen, module = "fluxfunnel._core")]
@@ -43,6 +46,7 @@ impl AlphaDiskCore {
         kappa0: f64,
         hydrogen_fraction: f64,
         midplane_factor: f64,
+        ionisation_temperature: f64,
     ) -> PyResult<Self> {
         let disk = AlphaDisk::new(
             mass,
@@ -53,6 +57,7 @@ impl AlphaDiskCore {
             kappa0,
             hydrogen_fraction,
             midplane_factor,
+            ionisation_temperature,
         )?;
         Ok(Self { disk })
     }
@@ -87,11 +92,17 @@ impl AlphaDiskCore {
         Ok((out.into_pyarray(py), worst(w)))
     }
 
-    /// Radiation-to-gas pressure, scattering-to-Kramers opacity and optical depth at every radius.
-    fn validity<'py>(&self, py: Python<'py>, r: In<'py>) -> PyResult<Triple<'py>> {
+    /// Radiation-to-gas pressure, scattering-to-Kramers opacity, optical depth and ionisation-to-midplane
+    /// temperature at every radius.
+    fn validity<'py>(&self, py: Python<'py>, r: In<'py>) -> PyResult<Quad<'py>> {
         let rv = r.as_array();
-        let [p, k, t] = run_short(py, || self.disk.validity(&rv))?;
-        Ok((p.into_pyarray(py), k.into_pyarray(py), t.into_pyarray(py)))
+        let [p, k, t, c] = run_short(py, || self.disk.validity(&rv))?;
+        Ok((
+            p.into_pyarray(py),
+            k.into_pyarray(py),
+            t.into_pyarray(py),
+            c.into_pyarray(py),
+        ))
     }
 }
 
