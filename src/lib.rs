@@ -8,6 +8,7 @@ pub mod constants;
 pub mod error;
 pub mod numerics;
 pub mod py;
+pub mod stats;
 
 use pyo3::prelude::*;
 

@@ -2,5 +2,6 @@
 
 pub mod cancel;
 pub mod checks;
+pub mod fft;
 
 pub use cancel::Cancel;

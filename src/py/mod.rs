@@ -4,11 +4,13 @@
 pub mod diagnostics;
 pub mod errors;
 pub mod run;
+pub mod stats;
 
 use pyo3::prelude::*;
 
 /// Register every stage's functions on the `_core` module.
 pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     diagnostics::register(m)?;
+    stats::register(m)?;
     Ok(())
 }
