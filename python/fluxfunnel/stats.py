@@ -31,7 +31,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Mapping, Sized
 from dataclasses import dataclass
 from typing import Any
 
@@ -666,7 +666,7 @@ def accumulate(
     from tqdm.auto import tqdm
 
     acc = ProfileAccumulator(spacing=spacing, periodic_z=periodic_z)
-    total = len(snapshots) if hasattr(snapshots, "__len__") else None
+    total = len(snapshots) if isinstance(snapshots, Sized) else None
     disable = None if progress is None else not progress
     for item in tqdm(snapshots, total=total, disable=disable, desc="snapshots", unit="snapshot"):
         if isinstance(item, Mapping):
