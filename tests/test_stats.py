@@ -211,7 +211,7 @@ def test_vertical_wavevectors_give_szz_one():
 
 
 def test_flattened_eddies_match_the_analytic_shape_factors():
-    # Derived: docs/theory.md (stats: shape factors of stretched spectra), from the phi(kappa) P(k) spectral form
+    # Derived: docs/stats.md section 3, from the phi(kappa) P(k) spectral form
     # (PHYSICS.md 3.6). Three standard errors from an ensemble; the finite box adds a small lattice bias.
     for aspect in [(1.0, 1.0, 0.5), (1.0, 2.0, 1.0)]:
         samples = np.array(

@@ -34,7 +34,7 @@ def test_autocorrelation_matches_numpy_correlate():
 
 
 def test_times_of_analytic_autocorrelations():
-    # Derived: PHYSICS.md 8 / docs/theory.md: for C = exp(-t/tau) cos(w t) the e-fold time solves C = 1/e (scipy
+    # Derived: PHYSICS.md 8 / docs/stats.md section 5: for C = exp(-t/tau) cos(w t) the e-fold time solves C = 1/e (scipy
     # brentq) and the integral to the first zero t0 = pi/(2w) is scipy quad of C; for w = 0 both equal tau.
     tau, w = 3.0, 0.4
     errors = []
@@ -44,14 +44,18 @@ def test_times_of_analytic_autocorrelations():
         efold, integral = stats.autocorrelation_times(c, dt)
         want_e = brentq(lambda s: np.exp(-s / tau) * np.cos(w * s) - np.exp(-1), 0, np.pi / (2 * w))
         want_i = quad(lambda s: np.exp(-s / tau) * np.cos(w * s), 0, np.pi / (2 * w))[0]
+        t0 = np.pi / (2 * w)
+        closed = (w * tau**2 * np.exp(-t0 / tau) + tau) / (1 + w**2 * tau**2)  # antiderivative, docs/stats.md 5
+        np.testing.assert_allclose(want_i, closed, rtol=1e-12)
         errors.append(abs(integral - want_i))
         np.testing.assert_allclose(efold, want_e, rtol=1e-4)
         np.testing.assert_allclose(integral, want_i, rtol=1e-4)
     # trapezoid plus a linear last piece: second order (error falls about 4x when dt halves)
     assert 3.0 < errors[0] / errors[1] < 5.0
     t = np.arange(0, 200, 0.01)
-    e, i = stats.autocorrelation_times(np.exp(-t / tau) - 0.01, 0.01)
-    assert np.isfinite(e) and np.isfinite(i)
+    e, i = stats.autocorrelation_times(np.exp(-t / tau), 0.01)
+    assert np.isfinite(e) and np.isnan(i)  # an exponential never reaches zero: no integral time, documented
+    np.testing.assert_allclose(e, tau, rtol=1e-5)  # PHYSICS.md 9 row 29: e-fold time of exp(-t/tau) is tau
     e, i = stats.autocorrelation_times(np.exp(-t[:100] / tau), 0.01)  # record too short: NaN, documented
     assert np.isnan(e) and np.isnan(i)
 

@@ -47,7 +47,7 @@ def test_envelope_shapes_the_energy_profile():
 
 
 def test_full_helicity_is_exact():
-    # Derived: docs/theory.md (stats: synthetic fields): every mode is an eigenvector of curl with eigenvalue +|k|
+    # Derived: docs/stats.md section 4: every mode is an eigenvector of curl with eigenvalue +|k|
     # when helicity = 1, so <b . curl b> = sum |k| |b_k|^2 / N^2 exactly (Parseval, numpy.fft reference). The profile
     # routine removes the horizontal mean, i.e. the (kx, ky) = (0, 0) modes.
     n = 24
@@ -63,7 +63,7 @@ def test_full_helicity_is_exact():
 
 
 def test_partial_helicity_fraction_within_sampling_error():
-    # Derived: docs/theory.md (stats: synthetic fields): expected <b . curl b> / (k_E <b^2>) = sigma. Three standard
+    # Derived: docs/stats.md section 4: expected <b . curl b> / (k_E <b^2>) = sigma. Three standard
     # errors from independent seeds.
     n, sigma = 24, 0.5
     ks = np.meshgrid(*[TAU * np.fft.fftfreq(n)] * 3, indexing="ij")
@@ -80,7 +80,7 @@ def test_partial_helicity_fraction_within_sampling_error():
 
 
 def test_component_energies_follow_shape_factors():
-    # Derived: PHYSICS.md 3.6 / docs/theory.md: <b_j^2>/<b^2> = (1 - N_j)/2 for phi(kappa) P(k) spectra.
+    # Derived: PHYSICS.md 3.6 / docs/stats.md section 3: <b_j^2>/<b^2> = (1 - N_j)/2 for phi(kappa) P(k) spectra.
     aspect = (1.0, 1.0, 0.5)
     fr = np.array(
         [
@@ -97,7 +97,7 @@ def test_component_energies_follow_shape_factors():
 
 @pytest.mark.parametrize("ratio", [0.1, 0.5, 2.0, 10.0])
 def test_expected_shape_factors_closed_form_and_sphere_quadrature(ratio):
-    # Derived: docs/theory.md (stats: shape factors of stretched spectra). Two independent routes: the closed form
+    # Derived: docs/stats.md section 3. Two independent routes: the closed form
     # for axisymmetric aspect (a, a, c), r = c^2/a^2, and a direct average over the unit sphere (scipy dblquad).
     s = synthetic.expected_statistics((1.0, 1.0, ratio))
     r = ratio**2
@@ -123,7 +123,7 @@ def test_expected_shape_factors_closed_form_and_sphere_quadrature(ratio):
 
 
 def test_expected_triaxial_matches_sphere_quadrature():
-    # Derived: docs/theory.md; reference: scipy dblquad over the unit sphere.
+    # Derived: docs/stats.md section 3; reference: scipy dblquad over the unit sphere.
     aspect = np.array([2.0, 1.0, 0.7])
     s = synthetic.expected_statistics(aspect)
     lam = 1.0 / aspect**2

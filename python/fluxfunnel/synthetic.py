@@ -18,7 +18,7 @@ Analytic statistics (for ``envelope=None``; `expected_statistics` evaluates them
   .. math:: N_j = \lambda_j \int_0^\infty \frac{dt}{(1 + 2 t \lambda_j)
             \prod_i (1 + 2 t \lambda_i)^{1/2}},
 
-  derived in docs/theory.md (stats section); isotropic ``a`` gives ``1/3``. For ``a_x = a_y = a``,
+  derived in docs/stats.md section 3; isotropic ``a`` gives ``1/3``. For ``a_x = a_y = a``,
   ``a_z = c``, ``r = c^2/a^2 < 1``: ``N_z = [1 - sqrt(r/(1-r)) arctan(sqrt((1-r)/r))] / (1 - r)``.
 * Component energies: ``<b_j^2> / <b^2> = (1 - N_j) / 2`` (from ``tr P = 2`` and ``P_jj = 1 - k_j^2/k^2``).
 * Helicity: ``<b . curl b> = sigma * sum_k |k| |b_k|^2`` in expectation, so ``<b . curl b> / (k_E <b^2>)``
