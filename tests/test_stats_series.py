@@ -34,8 +34,8 @@ def test_autocorrelation_matches_numpy_correlate():
 
 
 def test_times_of_analytic_autocorrelations():
-    # Derived: PHYSICS.md 8 / docs/stats.md section 5: for C = exp(-t/tau) cos(w t) the e-fold time solves C = 1/e (scipy
-    # brentq) and the integral to the first zero t0 = pi/(2w) is scipy quad of C; for w = 0 both equal tau.
+    # Derived: PHYSICS.md 8 / docs/stats.md section 5: for C = exp(-t/tau) cos(w t) the e-fold time solves
+    # C = 1/e (scipy brentq) and the integral to the first zero t0 = pi/(2w) is scipy quad of C.
     tau, w = 3.0, 0.4
     errors = []
     for dt in (0.02, 0.01):
@@ -147,9 +147,10 @@ def test_dask_route_on_a_local_cluster_matches_streaming():
     b = da.from_array(np.stack([s[1] for s in snaps]), chunks=(2, 3, 4, 8, 6))  # spatial split: rechunked
     rho = da.from_array(np.stack([s[2] for s in snaps]), chunks=(1, 8, 8, 6))
     want = stats.accumulate(snaps, spacing=1.0, progress=False)
-    with distributed.LocalCluster(
-        n_workers=1, threads_per_worker=2, processes=False, dashboard_address=None
-    ) as cluster, distributed.Client(cluster):
+    with (
+        distributed.LocalCluster(n_workers=1, threads_per_worker=2, processes=False, dashboard_address=None) as cluster,
+        distributed.Client(cluster),
+    ):
         got = stats.dask_profiles(u, b, rho=rho, spacing=1.0, split_every=2)
     assert got.count == 5
     for name in ("maxwell", "b_shape4", "rho", "current_helicity"):

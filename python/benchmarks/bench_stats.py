@@ -84,10 +84,13 @@ def main() -> None:
     got = np.stack([moments[:, j, m] for j, m in PAIRS], axis=1)
     err = np.abs(got - m_ref).max() / np.abs(e_ref).max()
     print(f"grid {n}^3 float32 vector field ({input_bytes / 2**20:.0f} MiB), {workers} cores")
-    print(f"fluxfunnel : {min(t_ff):8.3f} s   peak memory (input + growth) / input = {(input_bytes + extra) / input_bytes:.2f}")
+    peak = (input_bytes + extra) / input_bytes
+    print(f"fluxfunnel : {min(t_ff):8.3f} s   peak memory (input + growth) / input = {peak:.2f}")
     print(f"scipy.fft  : {min(t_sp):8.3f} s")
     print(f"ratio scipy / fluxfunnel = {min(t_sp) / min(t_ff):.2f}  (> 1: fluxfunnel faster)")
-    print(f"max |difference| / max energy = {err:.2e}; energy difference {np.abs(energy - e_ref).max() / e_ref.max():.2e}")
+    print(
+        f"max |difference| / max energy = {err:.2e}; energy difference {np.abs(energy - e_ref).max() / e_ref.max():.2e}"
+    )
 
 
 if __name__ == "__main__":
