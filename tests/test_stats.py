@@ -263,6 +263,12 @@ def test_density_and_pressure_profiles():
     p = stats.turbulence_profiles(u, u, spacing=1.0, rho=rho, pressure=pres)
     np.testing.assert_allclose(p.rho, rho.mean(axis=(0, 1)), rtol=1e-14)
     np.testing.assert_allclose(p.pressure, pres.mean(axis=(0, 1)), rtol=1e-14)
+    # Alfven units: b / sqrt(4 pi rho) (Gaussian units definition of the Alfven speed)
+    pa = stats.turbulence_profiles(u, u, spacing=1.0, rho=rho, alfven_units=True)
+    ba = u / np.sqrt(4 * np.pi * rho)
+    np.testing.assert_allclose(pa.mean_b, ba.mean(axis=(1, 2)).T, atol=1e-13)
+    with pytest.raises(InputError, match="^rho: is needed"):
+        stats.turbulence_profiles(u, u, spacing=1.0, alfven_units=True)
     ds = p.to_xarray()
     np.testing.assert_array_equal(ds["b_shape4"].values, p.b_shape4)
     assert ds["maxwell"].attrs["units"] == "G2"
@@ -273,3 +279,11 @@ def test_height_grid_is_centred():
     np.testing.assert_allclose(stats.height_grid(5, 0.5), [-1.0, -0.5, 0.0, 0.5, 1.0])
     with pytest.raises(InputError, match="^dz"):
         stats.height_grid(4, -1.0)
+
+
+def test_docstring_examples_run():
+    import doctest
+
+    for module in (stats, synthetic):
+        result = doctest.testmod(module, optionflags=doctest.NORMALIZE_WHITESPACE)
+        assert result.attempted > 0 and result.failed == 0, module.__name__
