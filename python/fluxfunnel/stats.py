@@ -107,14 +107,16 @@ def _vector_field(name: str, value: Any) -> NDArray[Any]:
 
 
 def _scalar_profile(name: str, value: Any, grid: tuple[int, ...], unit: str, *, positive: bool) -> Array:
-    arr = as_float(name, value, unit=unit)
+    value = strip_units(name, value, unit)
+    arr = value if isinstance(value, np.ndarray) and value.dtype in (np.float32, np.float64) else as_float(name, value)
     if arr.shape != grid:
         raise InputError(f"{name}: must have the grid shape {grid}, got {arr.shape}")
     if positive:
         check_positive(name, arr)
     else:
         check_finite(name, arr)
-    return np.asarray(arr.mean(axis=(0, 1)), dtype=np.float64)
+    # float64 sums without a float64 copy of the input
+    return np.asarray(arr.mean(axis=(0, 1), dtype=np.float64), dtype=np.float64)
 
 
 def _normalise(moment: Array, energy: Array) -> Array:
