@@ -301,3 +301,22 @@ def test_strided_views_are_read_in_place():
         np.testing.assert_allclose(getattr(got, name), arr, atol=1e-13, err_msg=name)
     rho32 = np.ones((8, 12, 10), dtype=np.float32)
     assert stats.turbulence_profiles(view, view, spacing=1.0, rho=rho32).rho.dtype == np.float64
+
+
+def test_isotropic_fourth_rank_moments():
+    # Derived: PHYSICS.md section 9 row 11 (isotropic average, from the isotropic solenoidal spectral tensor):
+    # <(K_jm b_l) b_k> = (<b^2>/30)(4 d_jm d_lk - d_jl d_mk - d_jk d_ml); S_xxzz = 2/15, S_xxxx = 1/15, S_zyzy = -1/30.
+    # Ensemble of 8 seeds; 81 components, so four standard errors (Bonferroni-style allowance for many checks).
+    d = np.eye(3)
+    want = (4 * np.einsum("jm,lk->jmlk", d, d) - np.einsum("jl,mk->jmlk", d, d) - np.einsum("jk,ml->jmlk", d, d)) / 30
+    samples = []
+    for s in range(8):
+        f = synthetic.solenoidal_field((32, 32, 32), seed=100 + s)
+        p = stats.turbulence_profiles(f, f, spacing=1.0)
+        e = np.trace(p.maxwell, axis1=1, axis2=2)
+        samples.append(np.einsum("zjmlk,z->jmlk", p.b_shape4, e) / e.sum())
+    samples = np.array(samples)
+    se = samples.std(axis=0, ddof=1) / np.sqrt(len(samples))
+    assert np.all(np.abs(samples.mean(axis=0) - want) < 4 * se + 1e-12)
+    np.testing.assert_allclose(want[0, 0, 2, 2], 2 / 15)
+    np.testing.assert_allclose(want[2, 1, 2, 1], -1 / 30)
