@@ -10,6 +10,7 @@ pub mod error;
 pub mod numerics;
 pub mod objects;
 pub mod py;
+pub mod stats;
 
 use pyo3::prelude::*;
 

@@ -70,6 +70,20 @@ class AlphaDiskCore:
 
 # --- stats ------------------------------------------------------------
 
+def _stats_point(
+    u: NDArray[np.float32] | NDArray[np.float64], b: NDArray[np.float32] | NDArray[np.float64]
+) -> tuple[
+    NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]
+]: ...
+def _stats_spectral(
+    field_: NDArray[np.float32] | NDArray[np.float64],
+    spacing: tuple[float, float, float],
+    periodic_z: bool,
+    volume_mean: bool,
+    moments: bool,
+    helicity: bool,
+) -> tuple[NDArray[np.float64], NDArray[np.float64] | None, NDArray[np.float64] | None]: ...
+
 # --- closure ------------------------------------------------------------
 
 # --- measure ------------------------------------------------------------

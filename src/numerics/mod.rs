@@ -3,5 +3,6 @@
 pub mod cancel;
 pub mod checks;
 pub mod elementwise;
+pub mod fft;
 
 pub use cancel::Cancel;

@@ -6,6 +6,7 @@ pub mod disk;
 pub mod errors;
 pub mod objects;
 pub mod run;
+pub mod stats;
 
 use pyo3::prelude::*;
 
@@ -14,5 +15,6 @@ pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     diagnostics::register(m)?;
     objects::register(m)?;
     disk::register(m)?;
+    stats::register(m)?;
     Ok(())
 }
