@@ -134,7 +134,7 @@ class AlphaDisk:
     >>> disk = AlphaDisk(k.M_SUN, 1e16, 0.1, r_in=1e9)
     >>> 1e3 < disk.midplane_temperature(1e10) < 1e5
     True
-    >>> disk.aspect_ratio([2e9, 1e10, 1e11]).shape
+    >>> disk.aspect_ratio([2e9, 5e9, 1e10]).shape
     (3,)
     """
 
