@@ -236,6 +236,8 @@ def test_quantities_and_scalars():
     assert isinstance(d.surface_density(0.1 * u.AU), float)
     assert d.surface_density(0.1 * u.AU) == pytest.approx(d.surface_density(0.1 * k.AU), rel=1e-12)
     assert "AlphaDisk(mass=" in repr(d)
+    with pytest.raises(AttributeError, match="immutable"):
+        d.alpha = 0.3
 
 
 @pytest.mark.parametrize(

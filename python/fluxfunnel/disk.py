@@ -188,6 +188,12 @@ class AlphaDisk:
             _MIDPLANE[midplane],
             self.ionisation_temperature,
         )
+        self._frozen = True
+
+    def __setattr__(self, name: str, value: Any) -> None:
+        if getattr(self, "_frozen", False):
+            raise AttributeError(f"AlphaDisk is immutable (cannot set {name!r}); build a new disk instead")
+        object.__setattr__(self, name, value)
 
     def __repr__(self) -> str:
         return (

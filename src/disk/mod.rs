@@ -48,8 +48,9 @@ pub struct AlphaDisk {
     /// Temperature \[K\] below which hydrogen recombines and Kramers opacity (and `mu` of ionised gas)
     /// no longer apply; used only by the validity check.
     pub ionisation_temperature: f64,
-    /// `G M`, `k / (mu m_p)` and the radius-independent factor of `T_c^10`, cached by [`AlphaDisk::new`].
-    cache: [f64; 3],
+    /// `G M`, `k / (mu m_p)`, the radius-independent factor of `T_c^10` and the electron-scattering
+    /// opacity `0.2 (1 + X)`, cached by [`AlphaDisk::new`].
+    cache: [f64; 4],
 }
 
 /// Every quantity of the disk at one radius.
@@ -73,6 +74,8 @@ pub struct DiskState {
     pub pressure: f64,
     /// Vertical optical depth `Sigma kappa`.
     pub optical_depth: f64,
+    /// Kramers opacity at the midplane \[cm^2 g^-1\].
+    pub opacity: f64,
     /// Radial velocity \[cm s^-1\], negative for inflow.
     pub radial_velocity: f64,
 }
@@ -225,7 +228,8 @@ impl AlphaDisk {
                 let t10 = kappa0
                     / (32.0 * PI.powi(3) * SIGMA_SB * midplane_factor * alpha * alpha)
                     / gas.powf(2.5);
-                [G * mass, gas, t10]
+                let kappa_es = SIGMA_T * (1.0 + hydrogen_fraction) / (2.0 * M_P);
+                [G * mass, gas, t10, kappa_es]
             },
         })
     }
@@ -275,6 +279,7 @@ impl AlphaDisk {
             density,
             pressure,
             optical_depth: surface_density * kappa,
+            opacity: kappa,
             radial_velocity: -self.mdot / (2.0 * PI * r * surface_density),
         }
     }
@@ -312,11 +317,9 @@ impl AlphaDisk {
 
     /// The assumption ratios of a solved state.
     pub fn validity_of(&self, s: &DiskState) -> Validity {
-        let kappa_es = SIGMA_T * (1.0 + self.hydrogen_fraction) / (2.0 * M_P);
-        let kappa_kramers = s.optical_depth / s.surface_density;
         Validity {
-            radiation_to_gas_pressure: A_RAD * s.temperature.powi(4) / 3.0 / s.pressure,
-            scattering_to_kramers_opacity: kappa_es / kappa_kramers,
+            radiation_to_gas_pressure: (A_RAD / 3.0) * s.temperature.powi(4) / s.pressure,
+            scattering_to_kramers_opacity: self.cache[3] / s.opacity,
             optical_depth: s.optical_depth,
             ionisation_to_midplane_temperature: self.ionisation_temperature / s.temperature,
         }
