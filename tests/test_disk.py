@@ -206,6 +206,8 @@ def test_bright_disk_warns_where_assumptions_fail():
     # ... but too cold for ionised gas further out. Source: T_c < 1e4 K there (common practice threshold).
     with pytest.warns(AssumptionWarning, match="ionisation temperature"):
         cv_disk().midplane_temperature(1e12)
+    # Keplerian rotation does not rest on the thermal assumptions: no warning (warnings are errors here).
+    assert cv_disk().omega(1e12) == pytest.approx(math.sqrt(k.G * k.M_SUN / 1e36), rel=1e-14)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", AssumptionWarning)
         t_c = cv_disk().midplane_temperature(1e12)
@@ -236,6 +238,8 @@ def test_quantities_and_scalars():
     assert isinstance(d.surface_density(0.1 * u.AU), float)
     assert d.surface_density(0.1 * u.AU) == pytest.approx(d.surface_density(0.1 * k.AU), rel=1e-12)
     assert "AlphaDisk(mass=" in repr(d)
+    with pytest.raises(AttributeError, match="immutable"):
+        d.alpha = 0.3
 
 
 @pytest.mark.parametrize(

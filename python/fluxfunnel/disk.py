@@ -134,7 +134,7 @@ class AlphaDisk:
     >>> disk = AlphaDisk(k.M_SUN, 1e16, 0.1, r_in=1e9)
     >>> 1e3 < disk.midplane_temperature(1e10) < 1e5
     True
-    >>> disk.aspect_ratio([2e9, 1e10, 1e11]).shape
+    >>> disk.aspect_ratio([2e9, 5e9, 1e10]).shape
     (3,)
     """
 
@@ -188,6 +188,12 @@ class AlphaDisk:
             _MIDPLANE[midplane],
             self.ionisation_temperature,
         )
+        self._frozen = True
+
+    def __setattr__(self, name: str, value: Any) -> None:
+        if getattr(self, "_frozen", False):
+            raise AttributeError(f"AlphaDisk is immutable (cannot set {name!r}); build a new disk instead")
+        object.__setattr__(self, name, value)
 
     def __repr__(self) -> str:
         return (
@@ -218,17 +224,21 @@ class AlphaDisk:
                 stacklevel=stacklevel + 1,
             )
 
-    def _profile(self, name: str, r: Any) -> Any:
+    def _profile(self, name: str, r: Any, *, check: bool = True) -> Any:
         arr = as_float("r", r, unit="cm")
         out, worst = self._core.profile(arr, name)
-        self._warn(worst, stacklevel=4)
+        if check:
+            self._warn(worst, stacklevel=4)
         return scalar_or_array(out, r)
 
     # -- radial structure -----------------------------------------------------------------------------------
 
     def omega(self, r: Any) -> Any:
-        r"""Keplerian angular velocity :math:`\Omega = (GM/r^3)^{1/2}` [s^-1] at radius ``r`` [cm]."""
-        return self._profile("omega", r)
+        r"""Keplerian angular velocity :math:`\Omega = (GM/r^3)^{1/2}` [s^-1] at radius ``r`` [cm].
+
+        Independent of the disk's thermodynamics, so it never warns with `AssumptionWarning`.
+        """
+        return self._profile("omega", r, check=False)
 
     def surface_density(self, r: Any) -> Any:
         r"""Surface density :math:`\Sigma` [g cm^-2] at radius ``r`` [cm] (``r > r_in``; broadcasts)."""
@@ -331,9 +341,7 @@ class AlphaDisk:
         ra = as_float("r", r, unit="cm")
         ba = as_float("b_z", b_z, unit="G")
         ra, ba = broadcast(r=ra, b_z=ba)
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", RuntimeWarning)
-            out, worst = self._core.plasma_beta(ra, ba)
+        out, worst = self._core.plasma_beta(ra, ba)
         self._warn(worst)
         return scalar_or_array(out, r, b_z)
 
