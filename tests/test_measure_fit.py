@@ -78,7 +78,7 @@ def numpy_fit(b, e, z, columns=("alpha", "eta")):
 @pytest.mark.parametrize("method", ["lstsq", "svd"])
 def test_noiseless_fit_matches_numpy_lstsq(method):
     # Source: numpy.linalg.lstsq on the same design matrix (J from numpy.gradient).
-    b, e, z, alpha, eta, offset = synthetic(1, nt=300, nz=9, noise=0.0)
+    b, e, z, alpha, eta, offset = synthetic(1, nt=300, nz=70, noise=0.0)  # nz spans three Rust chunks
     fit = fit_emf(b, e, z, method=method, seed=0)
     ref_a, ref_e, ref_o = numpy_fit(b, e, z)
     np.testing.assert_allclose(fit.alpha, ref_a, rtol=0, atol=1e-10)
@@ -88,7 +88,7 @@ def test_noiseless_fit_matches_numpy_lstsq(method):
     np.testing.assert_allclose(fit.alpha, alpha, atol=1e-10)
     np.testing.assert_allclose(fit.eta, eta, atol=1e-10)
     assert np.all(fit.residual < 1e-10)
-    assert isinstance(fit, EmfFit) and "EmfFit(nz=9" in repr(fit)
+    assert isinstance(fit, EmfFit) and "EmfFit(nz=70" in repr(fit)
 
 
 @settings(max_examples=25, deadline=None)

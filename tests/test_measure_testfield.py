@@ -1,5 +1,10 @@
 """Test-field method: Roberts flow against the SOCA closed form, convergence as Rm drops, time dependence."""
 
+import os
+import signal
+import threading
+import time
+
 import numpy as np
 import pytest
 from fluxfunnel import InputError, measure
@@ -172,3 +177,16 @@ def test_bad_flows_are_named():
         measure.test_field(
             lambda t: u if t == 0 else u[:, :4], eta=1.0, k_test=1.0, spacing=h, t_end=1.0, dt=0.5
         )
+
+
+@pytest.mark.skipif(not hasattr(signal, "SIGINT"), reason="needs POSIX signals")
+def test_ctrl_c_stops_a_long_test_field_run():
+    # A SIGINT 0.3 s into a run of many thousand steps must stop it promptly with KeyboardInterrupt.
+    h = box(16, 6, 1.0, 2 * np.pi)
+    u = roberts_flow((16, 16, 6), u0=0.3, k=1.0, spacing=h)
+    timer = threading.Timer(0.3, lambda: os.kill(os.getpid(), signal.SIGINT))
+    start = time.monotonic()
+    timer.start()
+    with pytest.raises(KeyboardInterrupt):
+        measure.test_field(u, eta=1.0, k_test=1.0, spacing=h, t_end=1e4, dt=0.01, n_records=2)
+    assert time.monotonic() - start < 3.0

@@ -234,15 +234,25 @@ pub fn fit_emf(
         ));
     }
 
-    let fits: Vec<HeightFit> = (0..nz)
-        .into_par_iter()
-        .map(|k| {
-            cancel.check()?;
-            let out = fit_height(&mean_b, &emf, &zv, k, opts);
-            cancel.advance(1);
-            Ok(out)
-        })
-        .collect::<CoreResult<Vec<_>>>()?;
+    // Heights are processed in chunks: each chunk's data (plus the stencil neighbours) is first copied
+    // into a height-major buffer, so the per-height work reads contiguous memory instead of striding
+    // through the whole (nt, nz, 3) array; cancellation is checked between heights.
+    let mut fits: Vec<HeightFit> = Vec::with_capacity(nz);
+    for k0 in (0..nz).step_by(CHUNK) {
+        cancel.check()?;
+        let k1 = (k0 + CHUNK).min(nz);
+        let chunk = Chunk::gather(&mean_b, &emf, k0.saturating_sub(2), (k1 + 2).min(nz));
+        let part = (k0..k1)
+            .into_par_iter()
+            .map(|k| {
+                cancel.check()?;
+                let out = fit_height(&chunk, &zv, k, opts);
+                cancel.advance(1);
+                Ok(out)
+            })
+            .collect::<CoreResult<Vec<_>>>()?;
+        fits.extend(part);
+    }
 
     let mut out = FitOutput {
         alpha: Array3::from_elem((nz, 2, 2), f64::NAN),
@@ -287,14 +297,47 @@ fn n_terms(p: usize) -> usize {
     p * (p + 1) / 2 + 2 * p
 }
 
-fn fit_height(
-    mean_b: &ArrayView3<f64>,
-    emf: &ArrayView3<f64>,
-    z: &[f64],
-    k: usize,
-    opts: &FitOptions,
-) -> HeightFit {
-    let nt = mean_b.dim().0;
+/// Heights per chunk of [`fit_emf`].
+const CHUNK: usize = 32;
+
+/// The x and y components of `mean_b` and `emf` for heights `lo..hi`, height-major and contiguous in time.
+struct Chunk {
+    lo: usize,
+    nt: usize,
+    b: Vec<f64>,
+    e: Vec<f64>,
+}
+
+impl Chunk {
+    fn gather(mean_b: &ArrayView3<f64>, emf: &ArrayView3<f64>, lo: usize, hi: usize) -> Self {
+        let nt = mean_b.dim().0;
+        let width = hi - lo;
+        let mut b = vec![0.0; width * 2 * nt];
+        let mut e = vec![0.0; width * 2 * nt];
+        for t in 0..nt {
+            for h in lo..hi {
+                for c in 0..2 {
+                    b[((h - lo) * 2 + c) * nt + t] = mean_b[[t, h, c]];
+                    e[((h - lo) * 2 + c) * nt + t] = emf[[t, h, c]];
+                }
+            }
+        }
+        Self { lo, nt, b, e }
+    }
+
+    fn b(&self, h: usize, c: usize) -> &[f64] {
+        let start = ((h - self.lo) * 2 + c) * self.nt;
+        &self.b[start..start + self.nt]
+    }
+
+    fn e(&self, h: usize, c: usize) -> &[f64] {
+        let start = ((h - self.lo) * 2 + c) * self.nt;
+        &self.e[start..start + self.nt]
+    }
+}
+
+fn fit_height(chunk: &Chunk, z: &[f64], k: usize, opts: &FitOptions) -> HeightFit {
+    let nt = chunk.nt;
     let (idx, w) = derivative_stencil(z, k);
     let mut cols: Vec<usize> = vec![0];
     if opts.terms.alpha {
@@ -307,17 +350,19 @@ fn fit_height(
     // Design matrix (row-major nt x p) and right-hand sides (nt x 2).
     let mut a = vec![0.0; nt * p];
     let mut y = vec![0.0; nt * 2];
+    let (bx, by) = (chunk.b(k, 0), chunk.b(k, 1));
+    let sx = [chunk.b(idx[0], 0), chunk.b(idx[1], 0), chunk.b(idx[2], 0)];
+    let sy = [chunk.b(idx[0], 1), chunk.b(idx[1], 1), chunk.b(idx[2], 1)];
+    let (ex, ey) = (chunk.e(k, 0), chunk.e(k, 1));
     for t in 0..nt {
-        let bx = mean_b[[t, k, 0]];
-        let by = mean_b[[t, k, 1]];
-        let dbx: f64 = (0..3).map(|s| w[s] * mean_b[[t, idx[s], 0]]).sum();
-        let dby: f64 = (0..3).map(|s| w[s] * mean_b[[t, idx[s], 1]]).sum();
-        let full = [1.0, bx, by, -dby, dbx];
+        let dbx = w[0] * sx[0][t] + w[1] * sx[1][t] + w[2] * sx[2][t];
+        let dby = w[0] * sy[0][t] + w[1] * sy[1][t] + w[2] * sy[2][t];
+        let full = [1.0, bx[t], by[t], -dby, dbx];
         for (c, &col) in cols.iter().enumerate() {
             a[t * p + c] = full[col];
         }
-        y[t * 2] = emf[[t, k, 0]];
-        y[t * 2 + 1] = emf[[t, k, 1]];
+        y[t * 2] = ex[t];
+        y[t * 2 + 1] = ey[t];
     }
     let mut scale = vec![0.0; p];
     for c in 0..p {
