@@ -12,9 +12,7 @@ def spectral_curl(u, spacing):
     ks = [2 * np.pi * np.fft.fftfreq(m, d=h) for m, h in zip(n, spacing, strict=True)]
     kx, ky, kz = np.meshgrid(*ks, indexing="ij")
     uh = np.fft.fftn(u, axes=(1, 2, 3))
-    curl = np.stack(
-        [1j * (ky * uh[2] - kz * uh[1]), 1j * (kz * uh[0] - kx * uh[2]), 1j * (kx * uh[1] - ky * uh[0])]
-    )
+    curl = np.stack([1j * (ky * uh[2] - kz * uh[1]), 1j * (kz * uh[0] - kx * uh[2]), 1j * (kx * uh[1] - ky * uh[0])])
     div = 1j * (kx * uh[0] + ky * uh[1] + kz * uh[2])
     return np.fft.ifftn(curl, axes=(1, 2, 3)).real, np.fft.ifftn(div).real
 

@@ -51,6 +51,23 @@ def test_bad_comparisons_are_named():
     with pytest.raises(InputError, match=r"measured.alpha: must have shape"):
         measure.compare({"alpha": np.zeros((5, 3, 3))}, {"alpha": np.eye(2)})
     with pytest.raises(InputError, match=r"predicted.z"):
-        measure.compare(
-            {"alpha": np.zeros((3, 2, 2)), "z": [0, 1, 2]}, {"alpha": np.zeros((3, 2, 2)), "z": [0, 1, 3]}
-        )
+        measure.compare({"alpha": np.zeros((3, 2, 2)), "z": [0, 1, 2]}, {"alpha": np.zeros((3, 2, 2)), "z": [0, 1, 3]})
+
+
+def test_results_convert_to_xarray_with_units():
+    xr = pytest.importorskip("xarray")
+    rng = np.random.default_rng(0)
+    b = rng.normal(size=(60, 5, 3))
+    e = rng.normal(size=(60, 5, 3))
+    fit = measure.fit_emf(b, e, np.arange(5.0), seed=0, n_resamples=10)
+    ds = fit.to_xarray()
+    assert isinstance(ds, xr.Dataset)
+    np.testing.assert_array_equal(ds["alpha"].values, fit.alpha)
+    assert ds["eta"].attrs["units"] == "cm2 s-1" and ds["z"].attrs["units"] == "cm"
+    assert ds["alpha"].sel(i="y", j="x").shape == (5,)
+    h = (2 * np.pi / 8, 2 * np.pi / 8, 2 * np.pi / 6)
+    u = roberts_flow((8, 8, 6), u0=0.3, k=1.0, spacing=h)
+    r = measure.test_field(u, eta=1.0, k_test=1.0, spacing=h, t_end=2.0, soca=True, profile=False, n_records=4)
+    tds = r.to_xarray()
+    assert tds["alpha"].dims == ("i", "j") and tds["alpha_history"].sizes["time"] == r.time.size
+    np.testing.assert_array_equal(tds["eta"].values, r.eta)

@@ -174,9 +174,7 @@ def test_bad_flows_are_named():
     with pytest.raises(InputError, match="zero everywhere"):
         measure.test_field(0 * u, eta=1.0, k_test=1.0, spacing=h, t_end=1.0)
     with pytest.raises(InputError, match="changed shape"):
-        measure.test_field(
-            lambda t: u if t == 0 else u[:, :4], eta=1.0, k_test=1.0, spacing=h, t_end=1.0, dt=0.5
-        )
+        measure.test_field(lambda t: u if t == 0 else u[:, :4], eta=1.0, k_test=1.0, spacing=h, t_end=1.0, dt=0.5)
 
 
 @pytest.mark.skipif(not hasattr(signal, "SIGINT"), reason="needs POSIX signals")

@@ -54,9 +54,30 @@ class DegenerateFitWarning(UserWarning):
     """The mean field and its current did not vary independently at some heights; those fits are NaN."""
 
 
-def _fmt(arr: Any) -> str:
-    a = np.asarray(arr)
-    return f"array{a.shape}" if a.ndim else f"{float(a):.4g}"
+_UNITS = {
+    "alpha": "cm s-1",
+    "eta": "cm2 s-1",
+    "alpha_err": "cm s-1",
+    "eta_err": "cm2 s-1",
+    "offset": "cm s-1 G",
+    "offset_err": "cm s-1 G",
+    "residual": "cm s-1 G",
+    "condition_number": "1",
+    "alpha_history": "cm s-1",
+    "eta_history": "cm2 s-1",
+}
+
+
+def _dataset(variables: dict[str, tuple[tuple[str, ...], Any]], coords: dict[str, Any], attrs: dict[str, Any]) -> Any:
+    try:
+        import xarray as xr
+    except ImportError as exc:  # pragma: no cover - depends on the environment
+        raise ImportError("to_xarray needs xarray: pip install xarray") from exc
+    data = {
+        name: xr.Variable(dims, np.asarray(value), attrs={"units": _UNITS[name]} if name in _UNITS else {})
+        for name, (dims, value) in variables.items()
+    }
+    return xr.Dataset(data, coords=coords, attrs=attrs)
 
 
 @dataclass(frozen=True, repr=False)
@@ -101,6 +122,25 @@ class EmfFit:
     block_length: NDArray[np.int64]
     method: str
     errors: str
+
+    def to_xarray(self) -> Any:
+        """Return the fit as an ``xarray.Dataset`` with dimensions ``z``, ``i``, ``j`` and units in attrs."""
+        tensor: tuple[str, ...] = ("z", "i", "j")
+        variables: dict[str, tuple[tuple[str, ...], Any]] = {
+            name: (tensor, getattr(self, name)) for name in ("alpha", "eta", "alpha_err", "eta_err")
+        }
+        variables.update({name: (("z", "i"), getattr(self, name)) for name in ("offset", "offset_err", "residual")})
+        variables.update(
+            {name: (("z",), getattr(self, name)) for name in ("condition_number", "degenerate", "block_length")}
+        )
+        variables["correlation_time"] = (("z",), self.correlation_time)
+        coords = {"z": ("z", self.z, {"units": "cm"}), "i": ["x", "y"], "j": ["x", "y"]}
+        attrs = {
+            "method": self.method,
+            "errors": self.errors,
+            "convention": "E_i = offset_i + alpha_ij B_j - eta_ij (curl B)_j",
+        }
+        return _dataset(variables, coords, attrs)
 
     def __repr__(self) -> str:
         n_bad = int(np.sum(self.degenerate))
@@ -366,6 +406,21 @@ class TestFieldResult:
     n_steps: int
     mean_flow_rms: float
 
+    def to_xarray(self) -> Any:
+        """Return the result as an ``xarray.Dataset`` (dimensions ``z`` if a profile, ``i``, ``j``, ``time``)."""
+        tensor: tuple[str, ...] = ("z", "i", "j") if np.ndim(self.alpha) == 3 else ("i", "j")
+        variables: dict[str, tuple[tuple[str, ...], Any]] = {
+            "alpha": (tensor, self.alpha),
+            "eta": (tensor, self.eta),
+            "alpha_history": (("time", "i", "j"), self.alpha_history),
+            "eta_history": (("time", "i", "j"), self.eta_history),
+        }
+        coords: dict[str, Any] = {"time": ("time", self.time, {"units": "s"}), "i": ["x", "y"], "j": ["x", "y"]}
+        if len(tensor) == 3:
+            coords["z"] = ("z", self.z, {"units": "cm"})
+        attrs = {"k_test": self.k_test, "soca": int(self.soca), "dt": self.dt, "n_steps": self.n_steps}
+        return _dataset(variables, coords, attrs)
+
     def __repr__(self) -> str:
         a = np.asarray(self.alpha)
         e = np.asarray(self.eta)
@@ -518,7 +573,9 @@ def test_field(
     dt_v = t_v / n_steps
     if average_from is not None and not (0.0 <= float(average_from) < t_v):
         raise InputError(f"average_from: must lie in [0, t_end), got {average_from!r}")
-    solver = _core._TestFieldSolver(tuple(int(s) for s in shape), tuple(float(x) for x in h), eta_v, k_v, soca)
+    grid = (int(shape[0]), int(shape[1]), int(shape[2]))
+    cells = (float(h[0]), float(h[1]), float(h[2]))
+    solver = _core._TestFieldSolver(grid, cells, eta_v, k_v, bool(soca))
     marks = sorted({max(1, round(n_steps * (i + 1) / records)) for i in range(records)})
     mean_flow = np.mean(u_first, axis=(1, 2))
     mean_flow_rms = float(np.sqrt(np.mean(np.sum(mean_flow**2, axis=0))))
@@ -608,9 +665,7 @@ class Comparison:
     errors: dict[str, FloatArray] = field(default_factory=dict)
 
     def __repr__(self) -> str:
-        parts = [
-            f"{q}: rms residual diag=({r[0, 0]:.3g}, {r[1, 1]:.3g})" for q, r in self.rms_residual.items()
-        ]
+        parts = [f"{q}: rms residual diag=({r[0, 0]:.3g}, {r[1, 1]:.3g})" for q, r in self.rms_residual.items()]
         return f"Comparison({'; '.join(parts)})"
 
     def plot(self, *, axes: Any = None) -> Any:
