@@ -239,3 +239,26 @@ def test_bad_knobs_are_named(kwargs, match):
     b, e, z, *_ = synthetic(0, nt=100, nz=5)
     with pytest.raises(InputError, match=match):
         fit_emf(b, e, z, **kwargs)
+
+
+def test_svd_cutoff_matches_numpy_lstsq_rcond_on_the_scaled_matrix():
+    # Source: numpy.linalg.lstsq(rcond=r) drops singular values below r * s_max; fit_emf applies the same
+    # rule to the design matrix with columns scaled to unit rms.
+    rng = np.random.default_rng(9)
+    nt, nz = 400, 4
+    z = np.linspace(0.0, 3.0, nz)
+    b = np.zeros((nt, nz, 3))
+    base = rng.normal(size=(nt, 1))
+    b[..., 0] = base + 1e-3 * rng.normal(size=(nt, nz))  # B_x nearly the same at every height and ...
+    b[..., 1] = base + 1e-3 * rng.normal(size=(nt, nz))  # ... nearly equal to B_y: ill-conditioned
+    e = rng.normal(size=(nt, nz, 3))
+    rcond = 1e-2
+    fit = fit_emf(b, e, z, terms=("alpha",), method="svd", rcond=rcond, seed=0)
+    plain = fit_emf(b, e, z, terms=("alpha",), method="lstsq", seed=0)
+    for k in range(nz):
+        a = np.column_stack([np.ones(nt), b[:, k, 0], b[:, k, 1]])
+        scale = np.sqrt(np.mean(a**2, axis=0))
+        x = np.linalg.lstsq(a / scale, e[:, k, :2], rcond=rcond)[0] / scale[:, None]
+        np.testing.assert_allclose(fit.alpha[k], x[1:3].T, rtol=1e-9, atol=1e-12)
+        assert fit.condition_number[k] > 1 / rcond  # so the cut-off really removed a direction
+    assert not np.allclose(fit.alpha, plain.alpha)

@@ -211,7 +211,10 @@ def fit_emf(
     n_blocks : int
         Sub-intervals for ``errors="blocks"``.
     rcond : float, optional
-        SVD cut-off (default machine epsilon times ``nt``).
+        SVD cut-off relative to the largest singular value of the column-scaled design matrix (default
+        machine epsilon times ``nt``). With the default, ``"svd"`` and ``"lstsq"`` agree at every
+        non-degenerate height; a larger value regularises ill-conditioned heights towards the minimum-norm
+        solution (biasing them: say so when quoting such numbers).
     cond_limit : float
         Condition number above which a height is degenerate.
     seed : int, optional
