@@ -233,6 +233,7 @@ def test_bad_input_names_the_argument(change, match):
         (dict(cond_limit=0.5), "cond_limit"),
         (dict(method="svd", rcond=2.0), "rcond"),
         (dict(seed=-3), "seed"),
+        (dict(seed=2**64), "seed"),
     ],
 )
 def test_bad_knobs_are_named(kwargs, match):

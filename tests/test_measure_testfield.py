@@ -188,3 +188,16 @@ def test_ctrl_c_stops_a_long_test_field_run():
     with pytest.raises(KeyboardInterrupt):
         measure.test_field(u, eta=1.0, k_test=1.0, spacing=h, t_end=1e4, dt=0.01, n_records=2)
     assert time.monotonic() - start < 3.0
+
+
+def test_float32_flow_gives_the_float64_answer_to_single_precision():
+    # Source: PHYSICS.md section 6.1 eq. (6.2); inputs are promoted to float64 at the edge, so only the
+    # rounding of the float32 input itself (relative 6e-8) remains.
+    h = box(8, 6, 1.0, 2 * np.pi)
+    u = roberts_flow((8, 8, 6), u0=0.3, k=1.0, spacing=h)
+    r64 = measure.test_field(u, eta=1.0, k_test=1.0, spacing=h, t_end=10.0, soca=True, profile=False)
+    r32 = measure.test_field(u.astype(np.float32), eta=1.0, k_test=1.0, spacing=h, t_end=10.0, soca=True, profile=False)
+    a_ref, _ = roberts_soca(0.3, 1.0, 1.0, 1.0)
+    np.testing.assert_allclose(np.diag(r32.alpha), a_ref, rtol=1e-6)
+    np.testing.assert_allclose(r32.alpha, r64.alpha, rtol=1e-6, atol=1e-12)
+    assert r32.alpha.dtype == np.float64

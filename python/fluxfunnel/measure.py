@@ -305,6 +305,8 @@ def fit_emf(
         seed_val = int(np.random.default_rng().integers(0, 2**63))
     else:
         seed_val = _count("seed", seed, 0)
+        if seed_val >= 2**64:
+            raise InputError(f"seed: must be below 2**64, got {seed!r}")
     out = _core._fit_emf(
         b_arr,
         e_arr,
