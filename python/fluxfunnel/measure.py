@@ -659,6 +659,8 @@ class Comparison:
         Residual divided by the measured standard error, for quantities whose errors are known.
     rms_residual : dict of str to ndarray, shape (2, 2)
         Root-mean-square residual over heights, per tensor component (NaN entries ignored).
+    errors : dict of str to ndarray
+        The measured standard errors used for ``normalized_residual`` (and the error bars of ``plot``).
     """
 
     z: FloatArray | None
