@@ -7,6 +7,7 @@
 pub mod constants;
 pub mod disk;
 pub mod error;
+pub mod measure;
 pub mod numerics;
 pub mod objects;
 pub mod py;

@@ -4,6 +4,7 @@
 pub mod diagnostics;
 pub mod disk;
 pub mod errors;
+pub mod measure;
 pub mod objects;
 pub mod run;
 pub mod stats;
@@ -16,5 +17,6 @@ pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     objects::register(m)?;
     disk::register(m)?;
     stats::register(m)?;
+    measure::register(m)?;
     Ok(())
 }
