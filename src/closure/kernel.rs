@@ -16,6 +16,9 @@
 //!
 //! Results are written as one record of `record_len` numbers per point, laid out by [`Layout`].
 
+// Tensor algebra reads best with explicit indices i, j, k as in the formulas.
+#![allow(clippy::needless_range_loop)]
+
 use ndarray::{Array2, ArrayView1, ArrayView2, ArrayView3, ArrayView5, Axis};
 use rayon::prelude::*;
 

@@ -1,5 +1,8 @@
 //! Small fixed-size tensor helpers for the per-point closure kernels.
 
+// Tensor algebra reads best with explicit indices i, j, k as in the formulas.
+#![allow(clippy::needless_range_loop)]
+
 /// 3 x 3 matrix, row-major.
 pub type Mat3 = [[f64; 3]; 3];
 /// 3-vector.
