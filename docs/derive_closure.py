@@ -1,3 +1,4 @@
+# ruff: noqa: E741  (tensor indices i, j, k, l, m, n as in the formulas)
 """Symbolic re-derivation of the tau-closure coefficients of fluxfunnel.closure (see docs/theory.md).
 
 Run it (``python docs/derive_closure.py``) to print each derived result. The test suite imports it and
