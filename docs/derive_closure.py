@@ -47,20 +47,25 @@ def isotropic_fourth_moment() -> sp.Array:
     th, ph = sp.symbols("theta phi", real=True)
     n = [sp.sin(th) * sp.cos(ph), sp.sin(th) * sp.sin(ph), sp.cos(th)]
     w = sp.sin(th) / (4 * sp.pi)
+    cache: dict[tuple[int, ...], Any] = {}
 
-    def avg(expr: Any) -> Any:
-        return sp.integrate(sp.integrate(sp.expand(expr * w), (ph, 0, 2 * sp.pi)), (th, 0, sp.pi))
+    def avg(*idx: int) -> Any:
+        """Sphere average of n_a n_b ... by direct integration, each distinct monomial once."""
+        key = tuple(sorted(idx))
+        if key not in cache:
+            f = w
+            for a in key:
+                f = f * n[a]
+            cache[key] = sp.integrate(sp.integrate(sp.expand(f), (ph, 0, 2 * sp.pi)), (th, 0, sp.pi))
+        return cache[key]
 
     # The trace over l = k of (delta_lk - n_l n_k) is 2, hence the factor 1/2 per unit <b^2>.
     out = sp.MutableDenseNDimArray.zeros(3, 3, 3, 3)
     for j in R3:
-        for m in range(j, 3):
+        for m in R3:
             for l in R3:
-                for k in range(l, 3):
-                    v = sp.Rational(1, 2) * avg(n[j] * n[m] * (delta(l, k) - n[l] * n[k]))
-                    for a, b in ((j, m), (m, j)):
-                        for c, d in ((l, k), (k, l)):
-                            out[a, b, c, d] = sp.nsimplify(v)
+                for k in R3:
+                    out[j, m, l, k] = sp.nsimplify(sp.Rational(1, 2) * (delta(l, k) * avg(j, m) - avg(j, m, l, k)))
     return sp.Array(out)
 
 
@@ -89,27 +94,32 @@ def helical_wave_lemma() -> dict[str, Any]:
     Returns the residuals of these two statements (both zero).
     """
     A, kk, s = sp.symbols("A k s", positive=True)
-    th, ph = sp.symbols("theta phi", real=True)
-    n = sp.Matrix([sp.sin(th) * sp.cos(ph), sp.sin(th) * sp.sin(ph), sp.cos(th)])
-    e1 = sp.Matrix([sp.cos(th) * sp.cos(ph), sp.cos(th) * sp.sin(ph), -sp.sin(th)])
-    e2 = n.cross(e1)
-    # u(s) with s = k.x the phase; d_l u = n_l k du/ds.
-    u = A * (e1 * sp.cos(s) + e2 * sp.sin(s))
-    du = u.diff(s)
+    res_h, res_c = sp.Integer(0), sp.Integer(0)
+    # Exact unit vectors (Pythagorean quadruples) instead of angles keep the algebra exact and quick.
+    for direction in ((1, 2, 2), (2, 3, 6), (-1, 4, 8), (0, 0, 1)):
+        n = sp.Matrix(direction) / sp.sqrt(sum(x * x for x in direction))
+        helper = sp.Matrix([1, 0, 0]) if direction[0] == 0 else sp.Matrix([0, 0, 1])
+        e1 = n.cross(helper)
+        e1 = e1 / sp.sqrt(e1.dot(e1))
+        e2 = n.cross(e1)
+        # u(s) with s = k.x the phase; d_l u = n_l k du/ds.
+        u = A * (e1 * sp.cos(s) + e2 * sp.sin(s))
+        du = u.diff(s)
 
-    def avg(expr: Any) -> Any:
-        return sp.simplify(sp.integrate(sp.expand(expr), (s, 0, 2 * sp.pi)) / (2 * sp.pi))
+        def avg(expr: Any) -> Any:
+            # Each product is a quadratic form in (cos s, sin s), whose phase average is half the sum of its
+            # values at s = 0 and s = pi/2 (the mean of cos^2 and sin^2 is 1/2, of cos sin is 0).
+            return sp.simplify((expr.subs(s, 0) + expr.subs(s, sp.pi / 2)) / 2)
 
-    curl = sp.Matrix([sum(eps(i, l, m) * n[l] * kk * du[m] for l in R3 for m in R3) for i in R3])
-    helicity = avg(u.dot(curl))
-    res_h = sp.simplify(helicity + A**2 * kk)
-    res_c = 0
-    for j in R3:
-        for l in R3:
-            for k in R3:
-                c = avg(u[j] * n[l] * kk * du[k])
-                model = helicity / 2 * sum(eps(j, m, k) * n[l] * n[m] for m in R3)
-                res_c = max(res_c, abs(sp.simplify(c - model)))
+        curl = sp.Matrix([sum(eps(i, l, m) * n[l] * kk * du[m] for l in R3 for m in R3) for i in R3])
+        helicity = avg(u.dot(curl))
+        res_h = sp.Max(res_h, abs(sp.simplify(helicity + A**2 * kk)))
+        for j in R3:
+            for l in R3:
+                for k in R3:
+                    c = avg(u[j] * n[l] * kk * du[k])
+                    model = helicity / 2 * sum(eps(j, m, k) * n[l] * n[m] for m in R3)
+                    res_c = sp.Max(res_c, abs(sp.simplify(c - model)))
     return {"helicity_residual": res_h, "c_tensor_residual": res_c}
 
 
