@@ -605,7 +605,8 @@ def test_dynamical_quenching_relaxes_to_the_steady_state():
     assert ratio == pytest.approx(math.exp(-1.0), rel=1e-6)
     sym = derive.quenching_steady_state()
     sp = derive.sp
-    s = {sp.Symbol(n, real=True): v for n, v in dict(alpha_K=ak, B=b, eta_t=et, k_f=kf, B_eq=beq, R_m=rm, JB=0.0).items()}
+    values = dict(alpha_K=ak, B=b, eta_t=et, k_f=kf, B_eq=beq, R_m=rm, JB=0.0)
+    s = {sp.Symbol(n, real=True): v for n, v in values.items()}
     assert float(sym["alpha_steady"].subs(s)) == pytest.approx(1 / 11, rel=1e-14)
     assert float(1 / sym["relaxation_rate"].subs(s)) == pytest.approx(tq, rel=1e-14)
 

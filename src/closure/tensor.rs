@@ -10,12 +10,37 @@ pub type Vec3 = [f64; 3];
 /// Rank-3 tensor `t[i][j][k]`.
 pub type Ten3 = [[[f64; 3]; 3]; 3];
 
-/// The Levi-Civita symbol `epsilon_ijk`.
-#[inline]
-pub fn levi(i: usize, j: usize, k: usize) -> f64 {
+const fn levi_entry(i: usize, j: usize, k: usize) -> f64 {
     // (i - j)(j - k)(k - i)/2 gives +1, -1, 0 for i, j, k in {0, 1, 2}.
     let (i, j, k) = (i as i64, j as i64, k as i64);
     ((i - j) * (j - k) * (k - i)) as f64 / 2.0
+}
+
+const fn levi_table() -> Ten3 {
+    let mut t = [[[0.0; 3]; 3]; 3];
+    let mut i = 0;
+    while i < 3 {
+        let mut j = 0;
+        while j < 3 {
+            let mut k = 0;
+            while k < 3 {
+                t[i][j][k] = levi_entry(i, j, k);
+                k += 1;
+            }
+            j += 1;
+        }
+        i += 1;
+    }
+    t
+}
+
+/// The Levi-Civita symbol as a table, `LEVI[i][j][k]`.
+pub const LEVI: Ten3 = levi_table();
+
+/// The Levi-Civita symbol `epsilon_ijk`.
+#[inline(always)]
+pub fn levi(i: usize, j: usize, k: usize) -> f64 {
+    LEVI[i][j][k]
 }
 
 /// Symmetric part `(a + a^T)/2`.
