@@ -41,6 +41,17 @@ def _closure_coefficients(
     stratification: bool,
     with_b_tensor: bool,
 ) -> NDArray[np.float64]: ...
+def _closure_field_response(
+    u: NDArray[np.float64],
+    b: NDArray[np.float64],
+    *,
+    tau: float,
+    rho: float,
+    gravity: float,
+    response_speed2: float,
+    spacing: tuple[float, float, float],
+    pressure: str,
+) -> NDArray[np.float64]: ...
 def _closure_gradient(values: NDArray[np.float64], coord: NDArray[np.float64], axis: int) -> NDArray[np.float64]: ...
 
 # --- measure ------------------------------------------------------------

@@ -10,6 +10,7 @@
 
 pub mod gradient;
 pub mod kernel;
+pub mod response;
 pub mod tensor;
 
 pub use gradient::gradient_along;

@@ -3,10 +3,11 @@
 use numpy::{
     IntoPyArray, PyArray2, PyArrayDyn, PyReadonlyArray1, PyReadonlyArray2, PyReadonlyArray3,
 };
-use numpy::{PyReadonlyArray5, PyReadonlyArrayDyn};
+use numpy::{PyArray1, PyReadonlyArray4, PyReadonlyArray5, PyReadonlyArrayDyn};
 use pyo3::prelude::*;
 
 use super::run::{run_long, run_short};
+use crate::closure::response::ResponseSettings;
 use crate::closure::{self, PointInputs, PressureTreatment, Settings, ShapeSource};
 use crate::error::CoreError;
 
@@ -97,8 +98,53 @@ pub fn _closure_gradient<'py>(
     Ok(out.into_pyarray(py))
 }
 
+/// Box-averaged response coefficients of periodic fluctuation fields, packed as 81 numbers
+/// (see `closure::response::pack`).
+#[pyfunction]
+#[pyo3(signature = (u, b, *, tau, rho, gravity, response_speed2, spacing, pressure))]
+#[allow(clippy::too_many_arguments)]
+pub fn _closure_field_response<'py>(
+    py: Python<'py>,
+    u: PyReadonlyArray4<'py, f64>,
+    b: PyReadonlyArray4<'py, f64>,
+    tau: f64,
+    rho: f64,
+    gravity: f64,
+    response_speed2: f64,
+    spacing: (f64, f64, f64),
+    pressure: &str,
+) -> PyResult<Bound<'py, PyArray1<f64>>> {
+    let (pressure_weight, buoyancy_weight) = match pressure {
+        "projected" => (2.0, 1.0),
+        "partial" => (1.0, 1.0),
+        "unprojected" => (0.0, 0.0),
+        other => {
+            return Err(CoreError::input(
+                "closure",
+                format!("must be 'projected', 'partial' or 'unprojected', got {other:?}"),
+            )
+            .into())
+        }
+    };
+    let settings = ResponseSettings {
+        tau,
+        rho,
+        gravity,
+        response_speed2,
+        spacing: [spacing.0, spacing.1, spacing.2],
+        pressure_weight,
+        buoyancy_weight,
+    };
+    let (uv, bv) = (u.as_array(), b.as_array());
+    let out = run_long(py, |cancel| {
+        closure::response::field_response(uv, bv, &settings, cancel)
+    })?;
+    Ok(closure::response::pack(&out).into_pyarray(py))
+}
+
 pub fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(_closure_coefficients, m)?)?;
     m.add_function(wrap_pyfunction!(_closure_gradient, m)?)?;
+    m.add_function(wrap_pyfunction!(_closure_field_response, m)?)?;
     Ok(())
 }
