@@ -294,11 +294,11 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
             for (i, wi) in w.iter_mut().enumerate() {
                 for (mm, wim) in wi.iter_mut().enumerate() {
                     for (l, wiml) in wim.iter_mut().enumerate() {
-                        let mut s = 0.0;
-                        for (j, nbj) in nb.iter().enumerate() {
-                            s += levi(i, j, l) * nbj[mm];
+                        // eps_ijl N_jm: only j = 3 - i - l contributes.
+                        if i != l {
+                            let j = 3 - i - l;
+                            *wiml = 0.5 * b2 * levi(i, j, l) * nb[j][mm];
                         }
-                        *wiml = 0.5 * b2 * s;
                     }
                 }
             }
@@ -324,15 +324,9 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
             for (i, wi) in w.iter_mut().enumerate() {
                 for (mm, wim) in wi.iter_mut().enumerate() {
                     for (l, wiml) in wim.iter_mut().enumerate() {
-                        let mut s = 0.0;
-                        for j in 0..3 {
-                            for k in 0..3 {
-                                let e = levi(i, j, k);
-                                if e != 0.0 {
-                                    s += e * v[[p, j, mm, l, k]];
-                                }
-                            }
-                        }
+                        // eps_ijk S_jmlk: the two (j, k) with j, k, i all different.
+                        let (j1, j2) = ((i + 1) % 3, (i + 2) % 3);
+                        let s = v[[p, j1, mm, l, j2]] - v[[p, j2, mm, l, j1]];
                         if !s.is_finite() {
                             return Err(CoreError::input(
                                 "b_shape4",
@@ -371,8 +365,9 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
         for (i, row) in ab.iter_mut().enumerate() {
             for (l, x) in row.iter_mut().enumerate() {
                 let mut s = -pw * w[i][2][l];
-                for (k, mlk) in m[l].iter().enumerate() {
-                    s += levi(i, 2, k) * mlk;
+                if i != 2 {
+                    let k = 1 - i; // eps_izk M_lk with k = 3 - i - 2
+                    s += levi(i, 2, k) * m[l][k];
                 }
                 *x = cb * s;
             }
@@ -406,8 +401,10 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
             for l in 0..3 {
                 let mut sk = 0.0;
                 let mut sm = -sw * w[i][mm][l];
-                for j in 0..3 {
-                    sk -= levi(i, j, mm) * r[j][l];
+                if i != mm {
+                    // -eps_ijm R_jl and eps_imj M_lj: only j = 3 - i - m contributes.
+                    let j = 3 - i - mm;
+                    sk = -levi(i, j, mm) * r[j][l];
                     sm += levi(i, mm, j) * m[l][j];
                 }
                 let f = if l == 2 { strat } else { 1.0 };

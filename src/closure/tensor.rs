@@ -59,11 +59,9 @@ pub fn sym(a: &Mat3) -> Mat3 {
 pub fn axial(a: &Mat3) -> Vec3 {
     let mut g = [0.0; 3];
     for (i, gi) in g.iter_mut().enumerate() {
-        for j in 0..3 {
-            for k in 0..3 {
-                *gi -= 0.5 * levi(i, j, k) * a[j][k];
-            }
-        }
+        // Only the two (j, k) with i, j, k all different: eps_i,i+1,i+2 = +1.
+        let (j, k) = ((i + 1) % 3, (i + 2) % 3);
+        *gi = -0.5 * (a[j][k] - a[k][j]);
     }
     g
 }
