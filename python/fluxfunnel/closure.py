@@ -422,7 +422,8 @@ class ClosureCoefficients:
         Full :math:`b_{ijk}` [cm^2 s^-1] of :math:`\mathcal{E}_i = a_{ij}B_j + b_{ijk}\partial_k B_j`, for mean
         fields varying in any direction (only with ``full_tensor=True``).
     gradients : str
-        'grid', 'explicit' or 'homogeneous': how the pumping divergences were obtained.
+        'grid', 'explicit' or 'homogeneous': how the pumping divergences were obtained ('field response
+        (periodic box)' for results of `field_response`).
     coords, axes : tuple or None
         The grid of the state.
     settings : dict
