@@ -4,6 +4,7 @@
 //! `error` for the one error type, and `py` for the thin binding layer. The `_core` Python module below
 //! only registers what `py` provides.
 
+pub mod closure;
 pub mod constants;
 pub mod disk;
 pub mod error;
