@@ -8,6 +8,7 @@ pub mod constants;
 pub mod error;
 pub mod numerics;
 pub mod py;
+pub mod vertical;
 
 use pyo3::prelude::*;
 

@@ -4,11 +4,13 @@
 pub mod diagnostics;
 pub mod errors;
 pub mod run;
+pub mod vertical;
 
 use pyo3::prelude::*;
 
 /// Register every stage's functions on the `_core` module.
 pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     diagnostics::register(m)?;
+    vertical::register(m)?;
     Ok(())
 }
