@@ -228,9 +228,7 @@ def bend_profile(
     try:
         batch = np.broadcast_shapes(*batch_shapes)
     except ValueError as exc:
-        raise InputError(
-            f"b_z, d_bz_dr, surface_ratio: batch shapes {batch_shapes} do not broadcast together"
-        ) from exc
+        raise InputError(f"b_z, d_bz_dr, surface_ratio: batch shapes {batch_shapes} do not broadcast together") from exc
     if eta_floor is not None:
         floor = float(as_float("eta_floor", eta_floor, unit="cm2 / s"))
         check_positive("eta_floor", np.asarray(floor))
