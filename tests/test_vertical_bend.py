@@ -67,7 +67,7 @@ def test_uniform_diffusion_gives_the_lpp94_bending(pm, aspect):
     nu = 3.0e15
     z = midplane_grid(h, n=32)
     res = bend_profile(z, eta=nu / pm, v_r=-1.5 * nu / radius, surface_ratio="steady")
-    # Derived: docs/theory.md "Uniform diffusion", from the thin-disk balance of Lubow, Papaloizou &
+    # Derived: docs/theory.md section "Vertical structure 4", from the thin-disk balance of Lubow, Papaloizou &
     # Pringle 1994: B_rs/B_z = |v_r| H/eta = 1.5 Pm H/R.
     assert res.steady_surface_ratio == pytest.approx(1.5 * pm * aspect, rel=1e-12)
     # Source: Lubow, Papaloizou & Pringle 1994 (MNRAS 267, 235, abstract): steady tan i = 1.52/D with
@@ -89,7 +89,7 @@ def test_field_lines_stay_near_vertical_for_unit_prandtl_number():
 
 
 def test_uniform_split_is_the_vertically_averaged_formula():
-    # Derived: docs/theory.md "Uniform diffusion": u_psi = v_r + eta (B_rs/B_z/h - d ln B_z/dR).
+    # Derived: docs/theory.md section "Vertical structure 4": u_psi = v_r + eta (B_rs/B_z/h - d ln B_z/dR).
     z = midplane_grid(H, n=8)
     b_z, d_bz_dr, bs = 3.0, -3.0 / 1.0e12, 0.4
     res = bend_profile(z, eta=ETA0, v_r=-V0, b_z=b_z, d_bz_dr=d_bz_dr, surface_ratio=bs)
@@ -101,7 +101,7 @@ def test_uniform_split_is_the_vertically_averaged_formula():
 
 
 def test_conductivity_weighted_formula_against_quad():
-    # Derived: docs/theory.md "Conductivity-weighted transport speed"; evaluated with scipy.integrate.quad.
+    # Derived: docs/theory.md section "Vertical structure 3"; evaluated with scipy.integrate.quad.
     z = stretched(1601)
     bs, b_z, d_bz_dr = 0.7, 2.0, 4.0e-12
     res = bend_profile(z, eta=eta_fn(z), v_r=vr_fn(z), b_z=b_z, d_bz_dr=d_bz_dr, surface_ratio=bs)
@@ -157,7 +157,7 @@ def test_profile_against_solve_ivp_and_solve_bvp():
 
 
 def test_uniform_pumping_peclet_factor():
-    # Derived: docs/theory.md "Integrating factor", uniform eta and v_z: u_dif = (eta/h) Pe/(e^Pe - 1).
+    # Derived: docs/theory.md section "Vertical structure 5", uniform eta and v_z: u_dif = (eta/h) Pe/(e^Pe - 1).
     z = midplane_grid(H, n=801)
     for pe in (-3.0, 0.5, 5.0, 20.0):
         res = bend_profile(z, eta=ETA0, v_z=pe * ETA0 / H)
@@ -170,7 +170,7 @@ def test_uniform_pumping_peclet_factor():
 @pytest.mark.parametrize(("a", "m"), [(9.0, 3.0), (2.0, 2.0), (4.0, 4.0)])
 def test_power_law_vz_over_eta_matches_the_incomplete_gamma_solution(a, m):
     # v_z/eta = (a m/h) (z/h)^(m-1), so int_0^z v_z/eta = a (z/h)^m and mu = exp(-a (z/h)^m); uniform eta
-    # and v_r. Derived: docs/theory.md "Power-law transport"; the closed form uses scipy.special.gammainc.
+    # and v_r. Derived: docs/theory.md section "Vertical structure 6"; the closed form uses scipy.special.gammainc.
     h = 3.0 * H
     z = np.linspace(0.0, h, 3001)
     vz = ETA0 * a * m / h * (z / h) ** (m - 1.0)
@@ -217,7 +217,7 @@ def test_negative_eta_is_detected_and_located():
 
 
 def test_floor_turns_an_anti_diffusive_layer_into_a_conducting_one():
-    # Derived: docs/theory.md "Vanishing or negative diffusivity": a highly conducting layer dominates
+    # Derived: docs/theory.md section "Vertical structure 7": a highly conducting layer dominates
     # int dz/eta, so u_psi tends to v_r of that layer (the conducting surface-layer mechanism of
     # Bisnovatyi-Kogan & Lovelace 2007).
     z = midplane_grid(H, n=401)

@@ -65,7 +65,7 @@ def test_alpha_omega_critical_dynamo_number_and_wave_frequency(dynamo_number):
     # azimuthal equation): lambda = -eta k^2 + (1 -/+ i) sqrt(|alpha S k|/2), so with D = alpha S/(eta^2 k^3)
     # the critical |D| is 2 and the dynamo wave there has frequency eta k^2.
     # From memory for the naming of D and its critical value; the dispersion relation itself is re-derived in
-    # docs/theory.md "Column model checks".
+    # docs/theory.md section "Vertical structure 11".
     eta, k, q, omega = 1.0, 1.0, 1.5, 1.0
     shear_rate = -q * omega
     alpha = dynamo_number * eta**2 * k**3 / shear_rate
@@ -156,7 +156,7 @@ def test_imposed_uniform_field_gives_catastrophic_quenching():
     expect = alpha_k / (1.0 + rm * b0**2 / b_eq**2)
     np.testing.assert_allclose(hist.alpha[-1], expect, rtol=1e-8)
     np.testing.assert_allclose(hist.b_x[-1], b0, rtol=1e-12)
-    # Derived: docs/theory.md "Dynamical quenching": relaxation at 2 eta k_f^2 (B^2/B_eq^2 + 1/R_m);
+    # Derived: docs/theory.md section "Vertical structure 10": relaxation at 2 eta k_f^2 (B^2/B_eq^2 + 1/R_m);
     # backward Euler gives ln(1 + rate dt)/dt, within rate dt / 2 of it.
     rate = 2.0 * eta * k_f**2 * (b0**2 / b_eq**2 + 1.0 / rm)
     seen = -np.diff(np.log(np.abs(hist.alpha[:12, 0] - expect))) / (hist.t[1] - hist.t[0])
@@ -192,10 +192,10 @@ def test_saturated_alpha_squared_dynamo_obeys_the_steady_quenching_formula():
 
     jb = -bx * ddz(by) + by * ddz(bx)
     b2 = bx**2 + by**2
-    # Derived: docs/theory.md "Dynamical quenching" (steady state of Blackman & Brandenburg 2002's equation,
+    # Derived: docs/theory.md section "Vertical structure 10" (steady state of Blackman & Brandenburg 2002's equation,
     # no flux): alpha = (alpha_K + R_m eta J.B/B_eq^2) / (1 + R_m B^2/B_eq^2).
     np.testing.assert_allclose(alpha, (alpha_k + rm * eta * jb / b_eq**2) / (1 + rm * b2 / b_eq**2), rtol=1e-6)
-    # Derived: docs/theory.md "Column model checks": a helical wave saturates at
+    # Derived: docs/theory.md section "Vertical structure 11": a helical wave saturates at
     # B^2/B_eq^2 = (alpha_K - (eta + eta_mol) k)/(eta k); on the grid k becomes the centred-difference
     # wavenumbers k_a = sin(k dz)/dz (alpha term) and k_d^2 = (2 sin(k dz/2)/dz)^2 (diffusion).
     k_a = math.sin(dz) / dz

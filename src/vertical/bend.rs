@@ -261,23 +261,33 @@ fn column(
     let ratio = surface.map(|given| {
         let bs = given.unwrap_or(steady);
         let u_psi = u_adv + u_grad + u_dif * bs;
-        // Source term of (mu b)' = mu f, integrated interval by interval with local normalisation.
+        // Source term of (mu b)' = mu f.
         let f: Vec<f64> = e
             .iter()
             .zip(&vr)
             .map(|(et, v)| (u_psi - v) / et + grad)
             .collect();
         let mut b = vec![0.0; nz];
-        let mut local = [0.0; 4];
-        for i in 0..rule.intervals() {
-            let r = rule.interval(i);
-            let ref_l = ln_mu[i + 1];
-            for (k, slot) in local.iter_mut().enumerate() {
-                let j = r.start + k;
-                *slot = (ln_mu[j] - ref_l).exp() * f[j];
+        if mu.iter().all(|m| *m > 1e-200) {
+            // Fast path: mu (normalised by its maximum) is representable everywhere; b = int mu f / mu.
+            let g: Vec<f64> = mu.iter().zip(&f).map(|(m, fv)| m * fv).collect();
+            rule.cumulative(&g, &mut b);
+            for (bj, m) in b.iter_mut().zip(&mu) {
+                *bj /= m;
             }
-            let piece: f64 = r.w.iter().zip(&local).map(|(w, v)| w * v).sum();
-            b[i + 1] = b[i] * (ln_mu[i] - ref_l).exp() + piece;
+        } else {
+            // Strong transport: integrate interval by interval, normalising mu at the interval's end.
+            let mut local = [0.0; 4];
+            for i in 0..rule.intervals() {
+                let r = rule.interval(i);
+                let ref_l = ln_mu[i + 1];
+                for (k, slot) in local.iter_mut().enumerate() {
+                    let j = r.start + k;
+                    *slot = (ln_mu[j] - ref_l).exp() * f[j];
+                }
+                let piece: f64 = r.w.iter().zip(&local).map(|(w, v)| w * v).sum();
+                b[i + 1] = b[i] * (ln_mu[i] - ref_l).exp() + piece;
+            }
         }
         // The last node equals bs up to rounding; store the requested value exactly.
         b[nz - 1] = bs;
@@ -303,24 +313,38 @@ mod tests {
         Array::linspace(0.0, h, n)
     }
 
+    /// One column with uniform eta, v_z, v_r on `n` heights up to `h`.
+    fn uniform(
+        n: usize,
+        h: f64,
+        eta: f64,
+        vz: f64,
+        vr: f64,
+        surface: Surface<'_>,
+    ) -> (Array1<f64>, Bending) {
+        let z = grid(n, h);
+        let ones = Array2::<f64>::ones((1, n));
+        let (e, w, r) = (&ones * eta, &ones * vz, &ones * vr);
+        let g = Array1::zeros(1);
+        let out = bend_columns(
+            z.view(),
+            e.view(),
+            w.view(),
+            r.view(),
+            g.view(),
+            surface,
+            None,
+        )
+        .unwrap();
+        (z, out)
+    }
+
     #[test]
     fn uniform_diffusion_gives_the_thin_disk_balance() {
         // Source: Lubow, Papaloizou & Pringle 1994 local balance; uniform eta, no vertical transport:
         // steady B_rs/B_z = |v_r| h / eta.
         let (h, eta, vr) = (2.0, 3.0, -0.6);
-        let z = grid(33, h);
-        let ones = Array2::<f64>::ones((1, 33));
-        let zero = Array2::<f64>::zeros((1, 33));
-        let out = bend_columns(
-            z.view(),
-            (&ones * eta).view(),
-            zero.view(),
-            (&ones * vr).view(),
-            Array1::zeros(1).view(),
-            Surface::Steady,
-            None,
-        )
-        .unwrap();
+        let (z, out) = uniform(33, h, eta, 0.0, vr, Surface::Steady);
         assert_relative_eq!(
             out.steady_ratio[0],
             vr.abs() * h / eta,
@@ -337,27 +361,31 @@ mod tests {
 
     #[test]
     fn uniform_pumping_matches_the_peclet_factor() {
-        // Derived: docs/theory.md, uniform eta and v_z: u_dif = (eta/h) Pe/(e^Pe - 1), Pe = v_z h/eta.
+        // Derived: docs/theory.md section "Vertical structure 5", uniform eta and v_z:
+        // u_dif = (eta/h) Pe/(e^Pe - 1), Pe = v_z h/eta.
         let (h, eta, vz) = (1.0, 0.5, 4.0);
-        let n = 401;
-        let z = grid(n, h);
-        let ones = Array2::<f64>::ones((1, n));
-        let out = bend_columns(
-            z.view(),
-            (&ones * eta).view(),
-            (&ones * vz).view(),
-            Array2::zeros((1, n)).view(),
-            Array1::zeros(1).view(),
-            Surface::SplitOnly,
-            None,
-        )
-        .unwrap();
+        let (_, out) = uniform(401, h, eta, vz, 0.0, Surface::SplitOnly);
         let pe: f64 = vz * h / eta;
         assert_relative_eq!(
             out.u_dif[0],
             eta / h * pe / pe.exp_m1(),
             max_relative = 1e-8
         );
+    }
+
+    #[test]
+    fn strong_transport_path_matches_the_closed_form() {
+        // Derived: docs/theory.md section "Vertical structure 5", uniform eta, v_z, v_r, u_psi = 0:
+        // b(z) = (|v_r|/v_z) (exp(Pe z/h) - 1); Pe = -500 (downward transport) makes mu(0)/mu(h) = e^-500,
+        // which forces the locally normalised path.
+        let (h, eta, vz, vr) = (1.0, 1.0, -500.0, -1.0);
+        let n = 8001;
+        let (z, out) = uniform(n, h, eta, vz, vr, Surface::Steady);
+        let b = out.ratio.unwrap();
+        for j in (0..n).step_by(800) {
+            let expect = vr.abs() / vz * (vz * z[j] / eta).exp_m1();
+            assert_relative_eq!(b[[0, j]], expect, max_relative = 1e-6);
+        }
     }
 
     #[test]
