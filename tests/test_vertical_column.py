@@ -15,6 +15,7 @@ import numpy as np
 import pytest
 from fluxfunnel import InputError
 from fluxfunnel.vertical import ColumnHistory, ColumnModel, DynamicalQuenching
+from scipy import integrate
 
 matplotlib.use("Agg")
 
@@ -87,6 +88,51 @@ def test_alpha_omega_critical_dynamo_number_and_wave_frequency(dynamo_number):
     if abs(dynamo_number) == 2.0:
         assert abs(growth) < 1e-3
         assert abs(freq) == pytest.approx(eta * k**2, rel=1e-3)
+
+
+def test_bounded_alpha_omega_column_against_a_solve_bvp_eigenvalue():
+    # Source: scipy.integrate.solve_bvp on the continuous eigenvalue problem of the same column (alpha-Omega,
+    # alpha = a0 sin(pi z), pumping gamma = 2z, eta = 1 + z^2/2, B_x = B_y = 0 at z = +-1), written as eight
+    # real first-order equations with the complex growth rate as two unknown parameters.
+    a0, shear_rate = 8.0, -15.0
+
+    def alpha(x):
+        return a0 * np.sin(np.pi * x)
+
+    def eta(x):
+        return 1.0 + 0.5 * x**2
+
+    def fun(x, y, p):
+        lam = p[0] + 1j * p[1]
+        bx, by, dbx, dby = y[0] + 1j * y[1], y[2] + 1j * y[3], y[4] + 1j * y[5], y[6] + 1j * y[7]
+        # eta B'' = lambda B + (alpha B_y)' + (gamma B)' - eta' B' (x part), and - S B_x in the y part.
+        # gamma = 2 z, so (gamma B)' = 2 B + 2 z B'; eta' = z.
+        d2bx = (lam * bx + a0 * np.pi * np.cos(np.pi * x) * by + alpha(x) * dby + 2 * bx + 2 * x * dbx - x * dbx) / eta(
+            x
+        )
+        d2by = (lam * by - shear_rate * bx + 2 * by + 2 * x * dby - x * dby) / eta(x)
+        comps = (dbx, dby, d2bx, d2by)
+        return np.vstack([part for c in comps for part in (c.real, c.imag)])
+
+    def bc(ya, yb, p):
+        return np.array([ya[0], ya[1], ya[2], ya[3], yb[0], yb[1], yb[2], yb[3], ya[4] - 1.0, ya[5]])
+
+    x = np.linspace(-1.0, 1.0, 101)
+    y0 = np.zeros((8, x.size))
+    y0[0], y0[2], y0[4] = np.cos(np.pi * x / 2), 3 * np.cos(np.pi * x / 2), -np.pi / 2 * np.sin(np.pi * x / 2)
+    sol = integrate.solve_bvp(fun, bc, x, y0, p=[5.0, 0.0], tol=1e-8, max_nodes=100000)
+    assert sol.success
+    expect = sol.p[0]
+    assert abs(sol.p[1]) < 1e-8 and expect > 0  # a steadily growing mode
+    errors = []
+    for nz in (101, 201):
+        z = np.linspace(-1.0, 1.0, nz)
+        model = ColumnModel(z, shear=-shear_rate, omega=1.0, alpha=alpha(z), gamma=2 * z, eta=eta(z), alpha_omega=True)
+        hist = model.run(8.0, dt=1e-3, n_snapshots=80, progress=False)
+        i = hist.t.size // 2
+        errors.append(abs(np.polyfit(hist.t[i:], np.log(hist.rms_field[i:]), 1)[0] - expect))
+    assert errors[1] < 1e-4 * expect
+    assert errors[0] / errors[1] > 3.0  # second order in dz
 
 
 def test_pumping_carries_the_field_at_the_pumping_speed():

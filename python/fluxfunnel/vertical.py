@@ -99,7 +99,7 @@ class BendResult:
         return f"BendResult(nz={self.z.size}, {parts}, regularised={int(np.count_nonzero(self.regularised))})"
 
 
-def _profile_arg(name: str, value: Any, unit: str) -> FloatArray:
+def _profile_arg(name: str, value: Any, unit: str | None) -> FloatArray:
     arr = as_float(name, value, unit=unit)
     check_finite(name, arr)
     return arr
@@ -295,7 +295,7 @@ def midplane_grid(scale_height: float, *, n: int = 256, top: float = 1.0) -> Flo
     --------
     >>> from fluxfunnel.vertical import midplane_grid
     >>> midplane_grid(2.0e10, n=5)
-    array([0.e+00, 5.e+09, 1.e+10, 1.5e+10, 2.e+10])
+    array([0.0e+00, 5.0e+09, 1.0e+10, 1.5e+10, 2.0e+10])
     """
     h = as_float("scale_height", scale_height, unit="cm")
     if h.ndim != 0:
