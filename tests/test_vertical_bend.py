@@ -201,6 +201,25 @@ def test_rising_transport_bends_the_field_only_high_up():
     assert res.steady_surface_ratio > 100.0 * plain.steady_surface_ratio
 
 
+def test_flux_is_advected_faster_than_mass_when_inflow_rises_with_height():
+    # Source: Guilet & Ogilvie 2012 (MNRAS 424, 2097, abstract): weak fields are advected faster than mass
+    # because the inflow is faster away from the midplane, where the density is low. Here the mass speed is
+    # checked against scipy.integrate.quad of int rho v_r / int rho for a Gaussian density.
+    z = stretched(1601, h=3.0 * H)
+
+    def rho_fn(x):
+        return 1e-9 * np.exp(-0.5 * (x / H) ** 2)
+
+    res = bend_profile(z, eta=ETA0, v_r=vr_fn(z), density=rho_fn(z))
+    num = integrate.quad(lambda x: rho_fn(x) * vr_fn(x), 0.0, 3.0 * H, epsabs=0, epsrel=1e-13)[0]
+    den = integrate.quad(rho_fn, 0.0, 3.0 * H, epsabs=0, epsrel=1e-13)[0]
+    assert res.u_mass == pytest.approx(num / den, rel=1e-8)
+    assert res.u_adv < res.u_mass < 0  # both inward, flux faster
+    assert res.u_adv / res.u_mass > 2.0
+    with pytest.raises(InputError, match="density: must be finite and non-negative"):
+        bend_profile(z, eta=ETA0, density=-rho_fn(z))
+
+
 # --- vanishing and negative diffusivity -----------------------------------------------------------------
 
 

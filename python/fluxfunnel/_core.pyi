@@ -41,6 +41,9 @@ def _bend_columns(
     NDArray[np.float64] | None,
     NDArray[np.bool_],
 ]: ...
+def _mass_speed(
+    z: NDArray[np.float64], density: NDArray[np.float64], v_r: NDArray[np.float64]
+) -> NDArray[np.float64]: ...
 def _column_advance(
     dz: float,
     periodic: bool,

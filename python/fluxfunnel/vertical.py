@@ -78,6 +78,9 @@ class BendResult:
         ``B_r/B_z`` at every height, shape ``(..., nz)``; ``None`` for the split only.
     regularised : ndarray of bool, shape (..., nz)
         Heights where ``eta`` was replaced by ``eta_floor``; all false unless a floor was asked for.
+    u_mass : float or ndarray or None
+        Density-weighted radial speed ``int rho v_r dz / int rho dz`` [cm s^-1], the speed at which the mass
+        moves, for comparison with ``u_adv``; ``None`` unless ``density`` was given.
     """
 
     z: FloatArray
@@ -90,11 +93,12 @@ class BendResult:
     surface_inclination_deg: Any
     b_r_over_b_z: FloatArray | None
     regularised: NDArray[np.bool_]
+    u_mass: Any = None
 
     def __repr__(self) -> str:
         parts = ", ".join(
             f"{name}={_shape_text(getattr(self, name))}"
-            for name in ("u_adv", "u_dif", "u_grad", "u_psi", "surface_inclination_deg")
+            for name in ("u_adv", "u_dif", "u_grad", "u_psi", "surface_inclination_deg", "u_mass")
         )
         return f"BendResult(nz={self.z.size}, {parts}, regularised={int(np.count_nonzero(self.regularised))})"
 
@@ -115,6 +119,7 @@ def bend_profile(
     surface_ratio: ArrayLike | Literal["steady"] | None = None,
     d_bz_dr: ArrayLike = 0.0,
     eta_floor: float | None = None,
+    density: ArrayLike | None = None,
 ) -> BendResult:
     r"""Steady field-line bending through a thin disk and the radial speed of the poloidal flux.
 
@@ -164,6 +169,10 @@ def bend_profile(
         With it, ``eta`` is replaced by ``max(eta, eta_floor)``: those heights become a highly conducting
         layer that pins the flux to the gas there (``u_psi`` tends to ``v_r`` of the layer), and the result
         then depends on the floor; ``regularised`` marks where it acted.
+    density : array_like, shape (..., nz), optional
+        Gas density [g cm^-3], non-negative; when given, the result also carries the density-weighted
+        radial speed ``u_mass`` of the mass, which differs from the conductivity-weighted ``u_adv`` whenever
+        ``v_r`` varies with height.
 
     Returns
     -------
@@ -260,6 +269,14 @@ def bend_profile(
         used = out(np.array(used_flat, dtype=np.float64))
         u_psi = out(u_adv + u_grad + u_dif * used_flat)
         incl = out(np.degrees(np.arctan(used_flat)))
+    u_mass = None
+    if density is not None:
+        rho = _profile_arg("density", density, "g / cm3")
+        try:
+            rho_b = np.broadcast_to(rho, batch + (nz,)).reshape(m, nz)
+        except ValueError as exc:
+            raise InputError(f"density: shape {rho.shape} does not broadcast to {batch + (nz,)}") from exc
+        u_mass = out(_core._mass_speed(zz, rho_b, rows(vr_a)))
     return BendResult(
         z=zz,
         u_adv=out(u_adv),
@@ -271,6 +288,7 @@ def bend_profile(
         surface_inclination_deg=incl,
         b_r_over_b_z=None if ratio is None else ratio.reshape(batch + (nz,)),
         regularised=floored.reshape(batch + (nz,)),
+        u_mass=u_mass,
     )
 
 

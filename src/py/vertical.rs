@@ -57,6 +57,18 @@ pub fn _bend_columns<'py>(
     ))
 }
 
+/// Density-weighted radial speed of `(columns, nz)` profiles.
+#[pyfunction]
+pub fn _mass_speed<'py>(
+    py: Python<'py>,
+    z: PyReadonlyArray1<'py, f64>,
+    density: PyReadonlyArray2<'py, f64>,
+    v_r: PyReadonlyArray2<'py, f64>,
+) -> PyResult<Bound<'py, PyArray1<f64>>> {
+    let (zv, rv, vv) = (z.as_array(), density.as_array(), v_r.as_array());
+    Ok(run_short(py, move || vertical::mass_speed(zv, rv, vv))?.into_pyarray(py))
+}
+
 type ColumnOut<'py> = (
     Bound<'py, PyArray1<f64>>,
     Bound<'py, PyArray1<f64>>,
@@ -126,6 +138,7 @@ pub fn _column_advance<'py>(
 
 pub fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(_bend_columns, m)?)?;
+    m.add_function(wrap_pyfunction!(_mass_speed, m)?)?;
     m.add_function(wrap_pyfunction!(_column_advance, m)?)?;
     Ok(())
 }

@@ -161,6 +161,50 @@ pub fn bend_columns(
     Ok(out)
 }
 
+/// Density-weighted (mass-transport) radial speed `int rho v_r dz / int rho dz` per column \[cm s^-1\],
+/// for `rho` and `v_r` of shape `(columns, nz)` on the heights `z`, with the same quadrature as
+/// [`bend_columns`]. `rho` must be finite and non-negative with a positive integral in every column.
+pub fn mass_speed(
+    z: ArrayView1<'_, f64>,
+    rho: ArrayView2<'_, f64>,
+    v_r: ArrayView2<'_, f64>,
+) -> CoreResult<Array1<f64>> {
+    let zv = check_heights(z)?;
+    let nz = zv.len();
+    let m = rho.nrows();
+    for (name, a) in [("density", &rho), ("v_r", &v_r)] {
+        if a.dim() != (m, nz) {
+            return Err(CoreError::input(
+                name,
+                format!("has shape {:?}, expected ({m}, {nz})", a.dim()),
+            ));
+        }
+    }
+    let rule = CumulativeRule::new(&zv);
+    let speeds: Vec<f64> = (0..m)
+        .into_par_iter()
+        .map(|i| {
+            let r: Vec<f64> = rho.index_axis(Axis(0), i).iter().copied().collect();
+            checks::non_negative("density", &r)?;
+            let flux: Vec<f64> = r
+                .iter()
+                .zip(v_r.index_axis(Axis(0), i))
+                .map(|(a, b)| a * b)
+                .collect();
+            checks::finite("v_r", &flux)?;
+            let mass = rule.total(&r);
+            if mass <= 0.0 {
+                return Err(CoreError::input(
+                    "density",
+                    format!("integrates to zero in column {i}"),
+                ));
+            }
+            Ok(rule.total(&flux) / mass)
+        })
+        .collect::<CoreResult<_>>()?;
+    Ok(Array1::from(speeds))
+}
+
 #[allow(clippy::too_many_arguments)]
 fn column(
     rule: &CumulativeRule,

@@ -8,5 +8,5 @@ pub mod column;
 pub mod quad;
 pub mod tridiag;
 
-pub use bend::{bend_columns, Bending, Surface};
+pub use bend::{bend_columns, mass_speed, Bending, Surface};
 pub use column::{advance, ColumnSpec, ColumnState, Quenching};
