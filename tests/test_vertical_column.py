@@ -291,6 +291,9 @@ def test_history_plot_and_repr():
     mesh = ax.collections[0]
     np.testing.assert_array_equal(np.asarray(mesh.get_array()).reshape(32, 5), hist.b_y.T)
     plt.close(ax.figure)
+    ds = hist.to_xarray()
+    np.testing.assert_array_equal(ds["b_y"].values, hist.b_y)
+    assert ds["b_x"].attrs["units"] == "G" and ds["t"].size == 5
     # Runs continue one another.
     later = model.run(2.0, dt=0.01, n_snapshots=2, progress=False)
     np.testing.assert_array_equal(later.b_y[0], hist.b_y[-1])

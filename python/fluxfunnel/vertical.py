@@ -396,6 +396,27 @@ class ColumnHistory:
         """Root-mean-square field ``sqrt(<B_x^2 + B_y^2>_z)`` of every snapshot [G]."""
         return np.sqrt(np.mean(self.b_x**2 + self.b_y**2, axis=1))
 
+    def to_xarray(self) -> Any:
+        """Return the history as an ``xarray.Dataset`` with coordinates ``t``, ``z`` and units in attributes.
+
+        Returns
+        -------
+        xarray.Dataset
+            Variables ``b_x``, ``b_y`` [G] and ``alpha`` [cm s^-1] on dimensions ``(t, z)``.
+        """
+        import xarray as xr
+
+        dims = ("t", "z")
+        return xr.Dataset(
+            {
+                "b_x": (dims, self.b_x, {"units": "G", "long_name": "radial mean field"}),
+                "b_y": (dims, self.b_y, {"units": "G", "long_name": "azimuthal mean field"}),
+                "alpha": (dims, self.alpha, {"units": "cm s-1", "long_name": "total alpha (kinetic + magnetic)"}),
+            },
+            coords={"t": ("t", self.t, {"units": "s"}), "z": ("z", self.z, {"units": "cm"})},
+            attrs={"note": "fluxfunnel column model: a mean-field model prediction, not a measurement"},
+        )
+
     def plot(self, field: Literal["b_x", "b_y", "alpha"] = "b_y", *, ax: Any = None) -> Any:
         """Draw a butterfly diagram: ``field`` against time (horizontal) and height (vertical).
 
