@@ -338,6 +338,8 @@ def test_bad_input_names_the_argument():
         bend_profile(z, eta=ETA0, surface_ratio="outer")
     with pytest.raises(InputError, match="eta_floor: must be positive"):
         bend_profile(z, eta=ETA0, eta_floor=-1.0)
+    with pytest.raises(InputError, match="v_z: in column 0 the upward transport is too strong"):
+        bend_profile(z, eta=ETA0, v_z=900.0 * ETA0 / H)  # Peclet number 900: exp(-900) underflows
     with pytest.raises(InputError, match="scale_height: must be positive"):
         midplane_grid(-H)
     with pytest.raises(InputError, match="scale_height: must be finite"):

@@ -183,7 +183,9 @@ def bend_profile(
     ------
     InputError
         Non-monotonic or too short ``z``, ``z[0] != 0``, NaN or infinity, shapes that do not broadcast,
-        ``b_z = 0``, or ``eta <= 0`` without a floor.
+        ``b_z = 0``, ``eta <= 0`` without a floor, or an upward transport so strong for the grid that the
+        surface weight ``mu(h)/max(mu)`` underflows (Peclet numbers of several hundred), where the split no
+        longer means anything in double precision.
 
     Notes
     -----

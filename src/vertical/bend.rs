@@ -297,9 +297,9 @@ fn column(
         return Err(CoreError::input(
             "v_z",
             format!(
-                "in column {col} the vertical transport v_z/eta is too strong for the grid: the surface weight of \
-                 the integrating factor underflows (refine z or reduce the Peclet number)"
-            ),
+                "in column {col} the upward transport is too strong: the surface weight of the integrating factor, \
+                 exp(-int v_z/eta dz) relative to its maximum, underflows in double precision (Peclet number above \
+                 about 700), so the surface field no longer diffuses at all"),
         ));
     }
     let ratio = surface.map(|given| {
