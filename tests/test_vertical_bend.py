@@ -88,6 +88,21 @@ def test_field_lines_stay_near_vertical_for_unit_prandtl_number():
         assert 0.3 * aspect < angle < 3.0 * aspect
 
 
+def test_heights_in_units_of_the_surface_height_give_the_same_speeds():
+    # Derived: docs/theory.md section "Vertical structure 1": (V1) is invariant under z -> z/h with
+    # eta -> eta/h and g -> g h, which lets radii with different h share one call.
+    h = np.array([0.5, 1.0, 4.0])[:, None] * H
+    zeta = np.linspace(0.0, 1.0, 257)
+    eta = eta_fn(zeta * h)
+    vz, vr = vz_fn(zeta * h), vr_fn(zeta * h)
+    grad = np.array([1.0, -2.0, 0.5]) * 1e-12
+    shared = bend_profile(zeta, eta=eta / h, v_z=vz, v_r=vr, d_bz_dr=grad * h[:, 0], surface_ratio=0.2)
+    for i in range(3):
+        own = bend_profile(zeta * h[i, 0], eta=eta[i], v_z=vz[i], v_r=vr[i], d_bz_dr=grad[i], surface_ratio=0.2)
+        assert shared.u_psi[i] == pytest.approx(own.u_psi, rel=1e-12)
+        np.testing.assert_allclose(shared.b_r_over_b_z[i], own.b_r_over_b_z, rtol=1e-10, atol=1e-12)
+
+
 def test_uniform_split_is_the_vertically_averaged_formula():
     # Derived: docs/theory.md section "Vertical structure 4": u_psi = v_r + eta (B_rs/B_z/h - d ln B_z/dR).
     z = midplane_grid(H, n=8)

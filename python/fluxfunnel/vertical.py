@@ -194,6 +194,10 @@ def bend_profile(
     ``v_r = -3 nu/(2R)`` give the steady ``tan i = |v_r| h/eta = 1.5 Pm h/R`` (Lubow, Papaloizou &
     Pringle 1994, MNRAS 267, 235, whose global steady state has ``tan i = 1.52/D``, ``D = (R/H)/Pm``).
 
+    The equation is unchanged by a rescaling of height, so columns with different surface heights ``h`` can
+    share one call: pass ``z / h`` as the heights, ``eta / h`` as ``eta`` and ``d_bz_dr * h`` as ``d_bz_dr``;
+    the speeds are still in cm s^-1.
+
     References
     ----------
     Lubow, S. H., Papaloizou, J. C. B. & Pringle, J. E. 1994, MNRAS 267, 235.
