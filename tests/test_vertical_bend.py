@@ -179,6 +179,19 @@ def test_uniform_pumping_peclet_factor():
         assert res.u_dif == pytest.approx(ETA0 / H * pe / math.expm1(pe), rel=1e-8)
 
 
+@pytest.mark.parametrize("pe", [-60.0, -8.0, 8.0, 60.0])
+def test_profile_stays_accurate_under_strong_vertical_transport(pe):
+    # Derived: docs/theory.md section "Vertical structure 5": uniform eta, v_z, v_r and u_psi = 0 give
+    # b(z) = (|v_r|/v_z)(exp(Pe z/h) - 1). With Pe = 60 the field grows by e^60 across the column; integrating
+    # only upward from the midplane would amplify rounding by the same factor.
+    z = midplane_grid(H, n=2001)
+    vz = pe * ETA0 / H
+    res = bend_profile(z, eta=ETA0, v_z=vz, v_r=-V0, surface_ratio="steady")
+    expect = V0 / vz * np.expm1(pe * z / H)
+    np.testing.assert_allclose(res.b_r_over_b_z, expect, rtol=1e-7, atol=1e-13 * np.max(np.abs(expect)))
+    assert res.steady_surface_ratio == pytest.approx(expect[-1], rel=1e-7)
+
+
 # --- integrating-factor power law ---------------------------------------------------------------------
 
 

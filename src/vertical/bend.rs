@@ -311,31 +311,7 @@ fn column(
             .zip(&vr)
             .map(|(et, v)| (u_psi - v) / et + grad)
             .collect();
-        let mut b = vec![0.0; nz];
-        if mu.iter().all(|m| *m > 1e-200) {
-            // Fast path: mu (normalised by its maximum) is representable everywhere; b = int mu f / mu.
-            let g: Vec<f64> = mu.iter().zip(&f).map(|(m, fv)| m * fv).collect();
-            rule.cumulative(&g, &mut b);
-            for (bj, m) in b.iter_mut().zip(&mu) {
-                *bj /= m;
-            }
-        } else {
-            // Strong transport: integrate interval by interval, normalising mu at the interval's end.
-            let mut local = [0.0; 4];
-            for i in 0..rule.intervals() {
-                let r = rule.interval(i);
-                let ref_l = ln_mu[i + 1];
-                for (k, slot) in local.iter_mut().enumerate() {
-                    let j = r.start + k;
-                    *slot = (ln_mu[j] - ref_l).exp() * f[j];
-                }
-                let piece: f64 = r.w.iter().zip(&local).map(|(w, v)| w * v).sum();
-                b[i + 1] = b[i] * (ln_mu[i] - ref_l).exp() + piece;
-            }
-        }
-        // The last node equals bs up to rounding; store the requested value exactly.
-        b[nz - 1] = bs;
-        b
+        profile(rule, &ln_mu, &mu, &f, bs)
     });
     Ok(ColumnOut {
         u_adv,
@@ -345,6 +321,65 @@ fn column(
         ratio,
         floored,
     })
+}
+
+/// The profile `b = (1/mu) int_0^z mu f`, given `b(h) = bs`.
+///
+/// Integrating up from the midplane amplifies rounding by `max_{z'<z} mu / mu(z)`, integrating down from
+/// the surface (`b = (mu(h) bs - int_z^h mu f)/mu`) by `max_{z'>z} mu / mu(z)`; each node takes the
+/// direction with the smaller factor, so strong upward or downward transport both stay accurate.
+fn profile(rule: &CumulativeRule, ln_mu: &[f64], mu: &[f64], f: &[f64], bs: f64) -> Vec<f64> {
+    let nz = mu.len();
+    let mut up = vec![0.0; nz];
+    let mut down = vec![0.0; nz];
+    down[nz - 1] = bs;
+    if mu.iter().all(|m| *m > 1e-200) {
+        // mu (normalised by its maximum) is representable everywhere.
+        let g: Vec<f64> = mu.iter().zip(f).map(|(m, fv)| m * fv).collect();
+        rule.cumulative(&g, &mut up);
+        let mut acc = mu[nz - 1] * bs;
+        for i in (0..nz - 1).rev() {
+            acc -= rule.over(i, &g);
+            down[i] = acc / mu[i];
+        }
+        for (bj, m) in up.iter_mut().zip(mu) {
+            *bj /= m;
+        }
+    } else {
+        // Very strong transport: step interval by interval with mu normalised at the node reached.
+        let mut local = [0.0; 4];
+        let mut piece = |i: usize, ref_l: f64| -> f64 {
+            let r = rule.interval(i);
+            for (k, slot) in local.iter_mut().enumerate() {
+                let j = r.start + k;
+                *slot = (ln_mu[j] - ref_l).exp() * f[j];
+            }
+            r.w.iter().zip(&local).map(|(w, v)| w * v).sum()
+        };
+        for i in 0..nz - 1 {
+            up[i + 1] = up[i] * (ln_mu[i] - ln_mu[i + 1]).exp() + piece(i, ln_mu[i + 1]);
+        }
+        for i in (0..nz - 1).rev() {
+            down[i] = down[i + 1] * (ln_mu[i + 1] - ln_mu[i]).exp() - piece(i, ln_mu[i]);
+        }
+    }
+    // Running maxima of ln mu from below and from above decide the direction at each node.
+    let mut below = vec![f64::NEG_INFINITY; nz];
+    let mut run = f64::NEG_INFINITY;
+    for (bl, l) in below.iter_mut().zip(ln_mu) {
+        run = run.max(*l);
+        *bl = run;
+    }
+    let mut above = f64::NEG_INFINITY;
+    let mut b = vec![0.0; nz];
+    for j in (0..nz).rev() {
+        above = above.max(ln_mu[j]);
+        b[j] = if below[j] <= above { up[j] } else { down[j] };
+    }
+    b[0] = 0.0;
+    // The last node equals bs up to rounding; store the requested value exactly.
+    b[nz - 1] = bs;
+    b
 }
 
 #[cfg(test)]
@@ -420,15 +455,17 @@ mod tests {
     #[test]
     fn strong_transport_path_matches_the_closed_form() {
         // Derived: docs/theory.md section "Vertical structure 5", uniform eta, v_z, v_r, u_psi = 0:
-        // b(z) = (|v_r|/v_z) (exp(Pe z/h) - 1); Pe = -500 (downward transport) makes mu(0)/mu(h) = e^-500,
-        // which forces the locally normalised path.
-        let (h, eta, vz, vr) = (1.0, 1.0, -500.0, -1.0);
-        let n = 8001;
-        let (z, out) = uniform(n, h, eta, vz, vr, Surface::Steady);
-        let b = out.ratio.unwrap();
-        for j in (0..n).step_by(800) {
-            let expect = vr.abs() / vz * (vz * z[j] / eta).exp_m1();
-            assert_relative_eq!(b[[0, j]], expect, max_relative = 1e-6);
+        // b(z) = (|v_r|/v_z) (exp(Pe z/h) - 1). |Pe| = 500 makes mu span e^500, which forces the locally
+        // normalised path; upward transport also needs the downward integration to stay accurate.
+        for vz in [-500.0, 500.0] {
+            let (h, eta, vr) = (1.0, 1.0, -1.0);
+            let n = 8001;
+            let (z, out) = uniform(n, h, eta, vz, vr, Surface::Steady);
+            let b = out.ratio.unwrap();
+            for j in (0..n).step_by(400) {
+                let expect = vr.abs() / vz * (vz * z[j] / eta).exp_m1();
+                assert_relative_eq!(b[[0, j]], expect, max_relative = 1e-6);
+            }
         }
     }
 
