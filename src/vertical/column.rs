@@ -268,7 +268,7 @@ pub fn advance(
             .map(|(a, m)| a + m)
             .collect()
     };
-    let mut frozen = if spec.quenching.is_none() {
+    let frozen = if spec.quenching.is_none() {
         Some(spec.step_matrices(&alpha_total(&work), dt)?)
     } else {
         None
@@ -278,14 +278,13 @@ pub fn advance(
         if step % CHUNK == 0 {
             cancel.check()?;
         }
-        match (&mut frozen, &spec.quenching) {
-            (Some((fact, ops)), _) => spec.field_step(&mut work, fact, ops, dt),
-            (None, Some(q)) => {
-                let (fact, ops) = spec.step_matrices(&alpha_total(&work), dt)?;
-                spec.field_step(&mut work, &fact, &ops, dt);
-                spec.helicity_step(q, &mut work, dt)?;
-            }
-            (None, None) => unreachable!("frozen matrices exist for every kinematic run"),
+        if let Some(q) = &spec.quenching {
+            let (fact, ops) = spec.step_matrices(&alpha_total(&work), dt)?;
+            spec.field_step(&mut work, &fact, &ops, dt);
+            spec.helicity_step(q, &mut work, dt)?;
+        } else if let Some((fact, ops)) = &frozen {
+            // Kinematic: the matrix was factored once before the loop.
+            spec.field_step(&mut work, fact, ops, dt);
         }
         cancel.advance(1);
     }
