@@ -330,20 +330,40 @@ fn column(
 /// direction with the smaller factor, so strong upward or downward transport both stay accurate.
 fn profile(rule: &CumulativeRule, ln_mu: &[f64], mu: &[f64], f: &[f64], bs: f64) -> Vec<f64> {
     let nz = mu.len();
-    let mut up = vec![0.0; nz];
-    let mut down = vec![0.0; nz];
-    down[nz - 1] = bs;
+    // Running maxima of ln mu from below and from above decide the direction at each node.
+    let mut use_up = vec![true; nz];
+    let mut below = vec![f64::NEG_INFINITY; nz];
+    let mut run = f64::NEG_INFINITY;
+    for (bl, l) in below.iter_mut().zip(ln_mu) {
+        run = run.max(*l);
+        *bl = run;
+    }
+    let mut above = f64::NEG_INFINITY;
+    for j in (0..nz).rev() {
+        above = above.max(ln_mu[j]);
+        use_up[j] = below[j] <= above;
+    }
+    let need_up = use_up[1..nz - 1].iter().any(|u| *u);
+    let need_down = use_up.iter().any(|u| !*u);
+    let mut b = vec![0.0; nz];
     if mu.iter().all(|m| *m > 1e-200) {
         // mu (normalised by its maximum) is representable everywhere.
         let g: Vec<f64> = mu.iter().zip(f).map(|(m, fv)| m * fv).collect();
-        rule.cumulative(&g, &mut up);
-        let mut acc = mu[nz - 1] * bs;
-        for i in (0..nz - 1).rev() {
-            acc -= rule.over(i, &g);
-            down[i] = acc / mu[i];
+        if need_up {
+            let mut up = vec![0.0; nz];
+            rule.cumulative(&g, &mut up);
+            for j in (0..nz).filter(|&j| use_up[j]) {
+                b[j] = up[j] / mu[j];
+            }
         }
-        for (bj, m) in up.iter_mut().zip(mu) {
-            *bj /= m;
+        if need_down {
+            let mut acc = mu[nz - 1] * bs;
+            for i in (0..nz - 1).rev() {
+                acc -= rule.over(i, &g);
+                if !use_up[i] {
+                    b[i] = acc / mu[i];
+                }
+            }
         }
     } else {
         // Very strong transport: step interval by interval with mu normalised at the node reached.
@@ -356,25 +376,24 @@ fn profile(rule: &CumulativeRule, ln_mu: &[f64], mu: &[f64], f: &[f64], bs: f64)
             }
             r.w.iter().zip(&local).map(|(w, v)| w * v).sum()
         };
-        for i in 0..nz - 1 {
-            up[i + 1] = up[i] * (ln_mu[i] - ln_mu[i + 1]).exp() + piece(i, ln_mu[i + 1]);
+        if need_up {
+            let mut up = 0.0;
+            for i in 0..nz - 1 {
+                up = up * (ln_mu[i] - ln_mu[i + 1]).exp() + piece(i, ln_mu[i + 1]);
+                if use_up[i + 1] {
+                    b[i + 1] = up;
+                }
+            }
         }
-        for i in (0..nz - 1).rev() {
-            down[i] = down[i + 1] * (ln_mu[i + 1] - ln_mu[i]).exp() - piece(i, ln_mu[i]);
+        if need_down {
+            let mut down = bs;
+            for i in (0..nz - 1).rev() {
+                down = down * (ln_mu[i + 1] - ln_mu[i]).exp() - piece(i, ln_mu[i]);
+                if !use_up[i] {
+                    b[i] = down;
+                }
+            }
         }
-    }
-    // Running maxima of ln mu from below and from above decide the direction at each node.
-    let mut below = vec![f64::NEG_INFINITY; nz];
-    let mut run = f64::NEG_INFINITY;
-    for (bl, l) in below.iter_mut().zip(ln_mu) {
-        run = run.max(*l);
-        *bl = run;
-    }
-    let mut above = f64::NEG_INFINITY;
-    let mut b = vec![0.0; nz];
-    for j in (0..nz).rev() {
-        above = above.max(ln_mu[j]);
-        b[j] = if below[j] <= above { up[j] } else { down[j] };
     }
     b[0] = 0.0;
     // The last node equals bs up to rounding; store the requested value exactly.
