@@ -158,6 +158,17 @@ def test_diffusion_between_vertical_field_boundaries():
     assert rate == pytest.approx(eta * np.pi**2, rel=1e-4)
 
 
+def test_default_step_follows_pure_diffusion_to_one_percent():
+    # Source: heat equation with zero end values, lowest mode decays as exp(-eta pi^2 t / L^2); the default
+    # step (a hundredth of L^2/eta) is an accuracy choice, common practice (no single source).
+    z = np.linspace(0.0, 1.0, 65)
+    seed = np.sin(np.pi * z)
+    seed[[0, -1]] = 0.0
+    model = ColumnModel(z, shear=0.0, omega=1.0, alpha=0.0, gamma=0.0, eta=0.3, b_x0=seed)
+    hist = model.run(1.0, n_snapshots=2, progress=False)
+    assert hist.rms_field[-1] / hist.rms_field[0] == pytest.approx(math.exp(-0.3 * np.pi**2), rel=1e-2)
+
+
 def test_implicit_steps_stay_stable_far_beyond_the_explicit_limit():
     # Steps 10^4 times the explicit diffusive limit dz^2/(2 eta): backward Euler decays monotonically
     # toward the exact decay (Source: heat equation), Crank-Nicolson stays bounded.

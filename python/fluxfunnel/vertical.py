@@ -640,7 +640,9 @@ class ColumnModel:
         rates = [np.max(np.abs(self.alpha)) / self.dz, np.max(np.abs(self.gamma)) / self.dz, abs(self.shear_rate)]
         rate = max(rates)
         if rate == 0.0:
-            rate = float(np.max(self.eta)) / self.dz**2
+            # Pure diffusion: a hundredth of the column's diffusion time L^2/eta.
+            length = float(self.z[-1] - self.z[0])
+            rate = 10.0 * float(np.max(self.eta + self.eta_molecular)) / length**2
         return 0.1 / rate
 
     def run(
@@ -660,7 +662,8 @@ class ColumnModel:
             successive runs continue one another).
         dt : float, optional
             Time step [s]; shortened so that every snapshot interval holds a whole number of steps.
-            Default: a tenth of the fastest advective (``dz/|alpha|``, ``dz/|gamma|``) or shear time.
+            Default: a tenth of the fastest advective (``dz/|alpha|``, ``dz/|gamma|``) or shear time, or a
+            hundredth of the diffusion time ``L^2/eta`` of the column when there is neither.
         n_snapshots : int, optional
             Snapshots after the initial one, evenly spaced in time.
         progress : bool, optional
