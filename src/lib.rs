@@ -13,6 +13,7 @@ pub mod numerics;
 pub mod objects;
 pub mod py;
 pub mod stats;
+pub mod vertical;
 
 use pyo3::prelude::*;
 

@@ -9,6 +9,7 @@ pub mod measure;
 pub mod objects;
 pub mod run;
 pub mod stats;
+pub mod vertical;
 
 use pyo3::prelude::*;
 
@@ -20,5 +21,6 @@ pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     disk::register(m)?;
     stats::register(m)?;
     measure::register(m)?;
+    vertical::register(m)?;
     Ok(())
 }
