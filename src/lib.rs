@@ -6,6 +6,7 @@
 
 pub mod constants;
 pub mod error;
+pub mod flux;
 pub mod numerics;
 pub mod py;
 

@@ -2,5 +2,8 @@
 
 pub mod cancel;
 pub mod checks;
+pub mod dense;
+pub mod elliptic;
+pub mod quadrature;
 
 pub use cancel::Cancel;

@@ -3,6 +3,7 @@
 
 pub mod diagnostics;
 pub mod errors;
+pub mod flux;
 pub mod run;
 
 use pyo3::prelude::*;
@@ -10,5 +11,6 @@ use pyo3::prelude::*;
 /// Register every stage's functions on the `_core` module.
 pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     diagnostics::register(m)?;
+    flux::register(m)?;
     Ok(())
 }

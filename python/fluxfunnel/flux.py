@@ -1,0 +1,645 @@
+r"""Global transport of poloidal magnetic flux across a thin accretion disk.
+
+The flux function ``psi(R) = R A_phi`` (flux per radian; ``Phi(R) = 2 pi psi(R)``) obeys, in a thin disk,
+
+.. math::
+
+    \partial_t \psi = -R\,u_\psi B_z,\qquad
+    u_\psi = u_\mathrm{adv} + u_\mathrm{dif}\,\frac{B_{rs}}{B_z} - \eta_R\,\partial_R \ln B_z,
+
+with ``B_z = R^-1 dpsi/dR`` and the surface radial field ``B_rs`` set by the current-free field outside the
+disk: ``psi = psi_ext + int G(R, R') B_rs(R') dR'``, ``G`` the ring-current kernel built on complete
+elliptic integrals (Jackson's loop formula). CGS (Gaussian) units throughout.
+
+Everything here is a kinematic mean-field model: the transport speeds are inputs (from the ``vertical``
+stage or given), the exterior is current-free, the disk is a thin sheet. Results are model predictions under
+those assumptions, not measurements. Derivations: ``docs/theory.md``, section "Global flux".
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any, Literal
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+from tqdm.auto import tqdm
+
+from . import _core
+from . import constants as const
+from ._errors import InputError
+from ._validate import as_float, broadcast, check_finite, check_increasing, check_positive, scalar_or_array
+
+__all__ = [
+    "ring_kernel",
+    "power_law_ratio",
+    "flux_operator",
+    "flux_function",
+    "surface_radial_field",
+    "FluxModel",
+    "FluxSolution",
+    "CriticalRadius",
+    "critical_radius",
+]
+
+Float = NDArray[np.float64]
+
+
+def _grid(r: ArrayLike) -> Float:
+    arr = as_float("r", r, unit="cm")
+    check_increasing("r", arr, min_len=2)
+    check_positive("r", arr)
+    return np.ascontiguousarray(arr)
+
+
+def _on_grid(name: str, value: ArrayLike, r: Float, unit: str | None) -> Float:
+    arr = as_float(name, value, unit=unit)
+    check_finite(name, arr)
+    try:
+        out = np.broadcast_to(arr, r.shape)
+    except ValueError as exc:
+        raise InputError(f"{name}: shape {arr.shape} does not broadcast to the grid shape {r.shape}") from exc
+    return np.ascontiguousarray(out, dtype=np.float64)
+
+
+def _scalar(name: str, value: Any, unit: str | None) -> float:
+    arr = as_float(name, value, unit=unit)
+    if arr.ndim != 0:
+        raise InputError(f"{name}: must be a scalar, got shape {arr.shape}")
+    check_finite(name, arr)
+    return float(arr)
+
+
+def ring_kernel(r: ArrayLike, r_src: ArrayLike) -> Any:
+    r"""Flux function in the disk plane of a ring of sheet current (the kernel ``G`` of the flux operator).
+
+    Parameters
+    ----------
+    r : array_like
+        Radius where the flux function is evaluated [cm], > 0.
+    r_src : array_like
+        Radius of the current ring [cm], > 0. Broadcasts with ``r``.
+
+    Returns
+    -------
+    float or ndarray
+        ``G(r, r_src)`` [cm]: the flux function ``psi(r)`` [G cm^2] of a strip of sheet current at
+        ``r_src`` of unit radial width (1 cm) carrying a surface radial field ``B_rs`` = 1 G (sheet current
+        ``c B_rs / (2 pi)``). A loop of current ``I`` [statA] gives ``psi = (2 pi I / c) G``.
+
+    Notes
+    -----
+    .. math::
+
+        G(R, R') = \frac{R + R'}{2\pi}\,[(2 - m) K(m) - 2 E(m)],\qquad m = \frac{4 R R'}{(R + R')^2},
+
+    from Jackson's loop formula (Jackson 1999, section 5.5). ``K`` and ``E`` come from the complementary
+    parameter ``1 - m = ((R - R')/(R + R'))^2`` (accurate on the logarithmic singularity ``R' -> R``); in the
+    far field, ``(R^2 + R'^2)/(2 R R') >= 1.5``, where the elliptic combination cancels, the equivalent
+    ``G = (R R')^{1/2} Q_{1/2}(chi) / pi`` with the hypergeometric series of ``Q_{1/2}`` is used.
+
+    References
+    ----------
+    J. D. Jackson, *Classical Electrodynamics*, 3rd ed. (1999), section 5.5.
+    H. S. Cohl and J. E. Tohline, ApJ 527, 86 (1999) (the Legendre-function form).
+
+    Examples
+    --------
+    >>> from fluxfunnel.flux import ring_kernel
+    >>> round(ring_kernel(1.0, 1e6) * 1e6, 6)  # far ring: uniform field, G -> r^2 / (2 r_src)
+    0.5
+    """
+    a = as_float("r", r, unit="cm")
+    b = as_float("r_src", r_src, unit="cm")
+    check_positive("r", a)
+    check_positive("r_src", b)
+    a2, b2 = broadcast(r=a, r_src=b)
+    out = _core.flux_ring_kernel(a2.ravel(), b2.ravel()).reshape(a2.shape)
+    return scalar_or_array(out, r, r_src)
+
+
+def power_law_ratio(n: ArrayLike) -> Any:
+    """Ratio ``B_rs / B_z`` of the current-free field above a disk whose vertical field is a power law.
+
+    Parameters
+    ----------
+    n : array_like
+        Power-law index of ``B_z = R^-n`` (dimensionless), ``0 < n < 2``.
+
+    Returns
+    -------
+    float or ndarray
+        ``f(n) = Gamma((n+1)/2) Gamma(1 - n/2) / [Gamma((3-n)/2) Gamma(n/2)]``; ``f(1) = 1``,
+        ``f(n) f(2-n) = 1``.
+
+    Notes
+    -----
+    Derived from the Hankel-transform form of the exterior potential field (``docs/theory.md``, "Global
+    flux"); the surface field of a pure power law is the same power law times ``f(n)``.
+
+    Examples
+    --------
+    >>> from fluxfunnel.flux import power_law_ratio
+    >>> power_law_ratio(1.0)
+    1.0
+    """
+    arr = as_float("n", n)
+    check_finite("n", arr)
+    if np.any((arr <= 0) | (arr >= 2)):
+        raise InputError(f"n: must lie strictly between 0 and 2, got values in [{arr.min()}, {arr.max()}]")
+    lg = np.vectorize(math.lgamma, otypes=[float])
+    out = np.exp(lg((arr + 1) / 2) + lg(1 - arr / 2) - lg((3 - arr) / 2) - lg(arr / 2))
+    return scalar_or_array(out, n)
+
+
+def flux_operator(r: ArrayLike) -> Float:
+    """Build the matrix ``W`` with ``psi - psi_ext = W B_rs`` on the grid ``r``.
+
+    Parameters
+    ----------
+    r : array_like
+        Strictly increasing positive radii [cm], ideally uniform in ``ln r`` (then only O(N) kernel integrals
+        are needed; any spacing works).
+
+    Returns
+    -------
+    ndarray, shape (N, N)
+        ``W`` [cm^2]. ``B_rs`` is piecewise linear in ``ln R`` between the nodes (half hats at the two ends:
+        no sheet current outside ``[r[0], r[-1]]``); each interval is integrated with 12-point
+        Gauss-Legendre, with the substitution ``x' = x_i +- dx s^2`` on the intervals touching the field
+        point, which removes the logarithmic singularity of the kernel. Second order in the grid spacing.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from fluxfunnel.flux import flux_operator
+    >>> flux_operator(np.geomspace(1.0, 100.0, 5)).shape
+    (5, 5)
+    """
+    return np.asarray(_core.flux_operator(_grid(r)))
+
+
+def flux_function(r: ArrayLike, b_rs: ArrayLike, *, psi_ext: ArrayLike = 0.0) -> Float:
+    """Flux function of the disk's sheet currents plus an external part: ``psi = psi_ext + W B_rs``.
+
+    Parameters
+    ----------
+    r : array_like, shape (N,)
+        Radii [cm], strictly increasing and positive.
+    b_rs : array_like, shape (N,)
+        Surface radial field just above the disk [G] (odd about the midplane).
+    psi_ext : array_like, optional
+        Flux function of every current outside the disk sheet [G cm^2], broadcast to ``r``; a uniform field
+        ``B`` gives ``B r^2 / 2``.
+
+    Returns
+    -------
+    ndarray, shape (N,)
+        ``psi`` [G cm^2].
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from fluxfunnel.flux import flux_function
+    >>> r = np.geomspace(1.0, 10.0, 8)
+    >>> bool(np.all(flux_function(r, np.zeros(8), psi_ext=r**2 / 2) == r**2 / 2))
+    True
+    """
+    rr = _grid(r)
+    b = _on_grid("b_rs", b_rs, rr, "G")
+    p = _on_grid("psi_ext", psi_ext, rr, "G cm2")
+    return np.asarray(_core.flux_psi_from_field(rr, b, p))
+
+
+def surface_radial_field(r: ArrayLike, psi: ArrayLike, *, psi_ext: ArrayLike = 0.0) -> Float:
+    """Surface radial field ``B_rs`` that the disk's currents need to carry the flux function ``psi``.
+
+    Parameters
+    ----------
+    r : array_like, shape (N,)
+        Radii [cm], strictly increasing and positive.
+    psi : array_like, shape (N,)
+        Flux function ``R A_phi`` in the disk plane [G cm^2].
+    psi_ext : array_like, optional
+        Flux function of everything outside the disk sheet [G cm^2] (uniform field ``B r^2/2``, central
+        dipole ``mu / r``, ...), broadcast to ``r``.
+
+    Returns
+    -------
+    ndarray, shape (N,)
+        ``B_rs = W^-1 (psi - psi_ext)`` [G]. ``W`` is a first-kind (log-kernel) operator: its inverse acts
+        like a derivative, so noisy ``psi`` gives noisy ``B_rs``; the result is exact only to the grid's
+        second-order accuracy.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from fluxfunnel.flux import surface_radial_field
+    >>> r = np.geomspace(1.0, 10.0, 8)
+    >>> float(np.abs(surface_radial_field(r, 3 * r**2 / 2, psi_ext=3 * r**2 / 2)).max())  # uniform field
+    0.0
+    """
+    rr = _grid(r)
+    p = _on_grid("psi", psi, rr, "G cm2")
+    pe = _on_grid("psi_ext", psi_ext, rr, "G cm2")
+    return np.asarray(_core.flux_field_from_psi(rr, p, pe))
+
+
+@dataclass(frozen=True, repr=False)
+class FluxSolution:
+    """Flux profiles of a `FluxModel` at one or more times.
+
+    Attributes
+    ----------
+    r : ndarray, shape (N,)
+        Radii [cm].
+    t : ndarray, shape (T,)
+        Times [s] (``[inf]`` for a steady state).
+    psi : ndarray, shape (T, N)
+        Flux function ``R A_phi`` [G cm^2]; the flux through radius ``R`` is ``2 pi psi``.
+    b_z : ndarray, shape (T, N)
+        Vertical field at the disk [G].
+    b_rs : ndarray, shape (T, N)
+        Radial field at the upper surface [G].
+    method : str
+        ``"bdf2"``, ``"cn"``, ``"be"`` or ``"steady"``.
+    """
+
+    r: Float
+    t: Float
+    psi: Float
+    b_z: Float
+    b_rs: Float
+    method: str
+
+    @property
+    def tan_inclination(self) -> Float:
+        """``B_rs / B_z`` (dimensionless), shape (T, N); > 0 where field lines fan outward above the disk."""
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return self.b_rs / self.b_z
+
+    @property
+    def inclination(self) -> Float:
+        """Angle of the surface field from the vertical [degrees], shape (T, N), in (-90, 90]."""
+        return np.degrees(np.arctan2(self.b_rs, self.b_z))
+
+    @property
+    def flux_inner(self) -> Float:
+        """Flux through the inner edge, ``Phi_in = 2 pi psi(r[0])`` [G cm^2], shape (T,)."""
+        return 2.0 * np.pi * self.psi[:, 0]
+
+    def midplane_beta(self, p_mid: ArrayLike) -> Float:
+        """Midplane plasma beta ``8 pi P / B_z^2`` (dimensionless), shape (T, N).
+
+        Parameters
+        ----------
+        p_mid : array_like
+            Midplane gas (plus radiation) pressure of the disk model [dyn cm^-2], broadcast to ``r``.
+        """
+        p = _on_grid("p_mid", p_mid, self.r, "dyn / cm2")
+        check_positive("p_mid", p)
+        with np.errstate(divide="ignore"):
+            return 8.0 * np.pi * p / self.b_z**2
+
+    def dimensionless_flux(self, mass: float, mdot: float) -> Float:
+        """Inner-edge flux in units of ``(Mdot r_g^2 c)^{1/2}`` (Gaussian), shape (T,).
+
+        Parameters
+        ----------
+        mass : float
+            Black-hole mass [g].
+        mdot : float
+            Accretion rate [g s^-1].
+
+        Notes
+        -----
+        ``phi = Phi_in / (Mdot r_g^2 c)^{1/2}``, ``r_g = G M / c^2`` (Tchekhovskoy, Narayan & McKinney 2011).
+        Values of order 50 (Gaussian) mark a magnetically arrested flow in their simulations; a kinematic
+        model that reaches such values only says the flux supply would allow it.
+        """
+        m = as_float("mass", mass, unit="g")
+        md = as_float("mdot", mdot, unit="g / s")
+        check_positive("mass", m)
+        check_positive("mdot", md)
+        r_g = const.G * float(m) / const.C**2
+        return self.flux_inner / math.sqrt(float(md) * r_g**2 * const.C)
+
+    def to_xarray(self) -> Any:
+        """Return the profiles as an ``xarray.Dataset`` with units in the attributes."""
+        import xarray as xr
+
+        coords = {"t": ("t", self.t, {"units": "s"}), "r": ("r", self.r, {"units": "cm"})}
+        data = {
+            "psi": (("t", "r"), self.psi, {"units": "G cm2", "long_name": "flux function R A_phi"}),
+            "b_z": (("t", "r"), self.b_z, {"units": "G"}),
+            "b_rs": (("t", "r"), self.b_rs, {"units": "G"}),
+            "inclination": (("t", "r"), self.inclination, {"units": "deg"}),
+        }
+        return xr.Dataset(data, coords=coords, attrs={"method": self.method})
+
+    def __repr__(self) -> str:
+        return (
+            f"FluxSolution(method={self.method!r}, n_r={self.r.size}, n_t={self.t.size}, "
+            f"r=[{self.r[0]:.3g}, {self.r[-1]:.3g}] cm, t_last={self.t[-1]:.3g} s, "
+            f"Phi_in={self.flux_inner[-1]:.3g} G cm^2)"
+        )
+
+
+class FluxModel:
+    """Kinematic evolution of poloidal flux across a thin disk with given transport speeds.
+
+    Parameters
+    ----------
+    r : array_like, shape (N,)
+        Radii [cm], strictly increasing, positive, N >= 4; uniform in ``ln r`` is fastest. Place the outer
+        edge far out: interior profiles are set by the anchoring there, and an anchored outer edge with
+        inflow carries a thin boundary layer (a few per cent of ``r[-1]``) where ``B_z`` reverses.
+    u_adv : array_like
+        Advective flux-transport speed [cm s^-1] (negative = inward), broadcast to ``r``.
+    u_dif : array_like
+        Coefficient of ``B_rs/B_z`` in the transport speed [cm s^-1], >= 0; ``eta / h_s`` for a disk of
+        diffusivity ``eta`` and surface height ``h_s``.
+    external_field : float, optional
+        Uniform vertical field of the environment [G] (``psi_ext = B r^2 / 2``).
+    dipole_moment : float, optional
+        Aligned dipole of a central star [G cm^3] (``psi_ext += mu / r``, ``B_z = -mu / r^3`` in the plane).
+    radial_diffusivity : array_like, optional
+        Diffusivity ``eta_R`` [cm^2 s^-1] of the term ``-eta_R d ln B_z / dR`` in ``u_psi``; omitted when
+        ``None`` (its size relative to the surface term is of order ``(H/R) / tan i``).
+    inner_edge : {"same", "closed"}
+        ``"same"``: the transport equation also holds at ``r[0]`` (one-sided derivatives), flux crosses the
+        edge freely. ``"closed"``: ``psi(r[0])`` is held at its initial value.
+    outer_edge : {"anchored", "same"}
+        ``"anchored"``: ``psi(r[-1])`` held at its initial value (the environment's flux). ``"same"``: the
+        transport equation holds there too.
+
+    Notes
+    -----
+    ``d psi/dt = -R (u_adv B_z + u_dif B_rs - eta_R dB_z/dR)``, ``B_z = R^-1 dpsi/dR`` (three-point,
+    second order, exact for a uniform field), ``B_rs = W^-1 (psi - psi_ext)`` (see `flux_operator`). The
+    nonlocal term is stiff (rates up to about ``pi u_dif / (r[0] dln r)``), so time stepping is implicit.
+    The flux held by currents inside ``r[0]`` is whatever ``psi_ext`` puts there: this model has no
+    separate current ring for flux captured by a black hole. A kinematic model: the speeds do not respond
+    to the field they move; its results are predictions under that assumption.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from fluxfunnel.flux import FluxModel
+    >>> r = np.geomspace(1e9, 1e13, 101)
+    >>> model = FluxModel(r, u_adv=0.0, u_dif=1e3, external_field=1e-3)
+    >>> sol = model.steady_state()
+    >>> bool(np.allclose(sol.b_z[0, 1:-1], 1e-3))
+    True
+    """
+
+    def __init__(
+        self,
+        r: ArrayLike,
+        *,
+        u_adv: ArrayLike,
+        u_dif: ArrayLike,
+        external_field: float = 0.0,
+        dipole_moment: float = 0.0,
+        radial_diffusivity: ArrayLike | None = None,
+        inner_edge: Literal["same", "closed"] = "same",
+        outer_edge: Literal["anchored", "same"] = "anchored",
+    ) -> None:
+        rr = _grid(r)
+        if rr.size < 4:
+            raise InputError(f"r: needs at least 4 points, got {rr.size}")
+        self.r = rr
+        self.u_adv = _on_grid("u_adv", u_adv, rr, "cm / s")
+        self.u_dif = _on_grid("u_dif", u_dif, rr, "cm / s")
+        if np.any(self.u_dif < 0):
+            i = int(np.argmax(self.u_dif < 0))
+            raise InputError(
+                f"u_dif: must be non-negative (negative diffusion is not a well-posed transport problem), "
+                f"found {self.u_dif[i]} at index {i}"
+            )
+        eta = 0.0 if radial_diffusivity is None else radial_diffusivity
+        self.radial_diffusivity = _on_grid("radial_diffusivity", eta, rr, "cm2 / s")
+        if np.any(self.radial_diffusivity < 0):
+            raise InputError("radial_diffusivity: must be non-negative")
+        b_ext = _scalar("external_field", external_field, "G")
+        mu = _scalar("dipole_moment", dipole_moment, "G cm3")
+        if inner_edge not in ("same", "closed"):
+            raise InputError(f"inner_edge: must be 'same' or 'closed', got {inner_edge!r}")
+        if outer_edge not in ("anchored", "same"):
+            raise InputError(f"outer_edge: must be 'anchored' or 'same', got {outer_edge!r}")
+        self.external_field = b_ext
+        self.dipole_moment = mu
+        self.inner_edge = inner_edge
+        self.outer_edge = outer_edge
+        self.psi_ext = 0.5 * b_ext * rr**2 + mu / rr
+        self._system = _core.FluxSystem(
+            rr, self.u_adv, self.u_dif, self.radial_diffusivity, self.psi_ext, inner_edge, outer_edge
+        )
+
+    def __repr__(self) -> str:
+        return (
+            f"FluxModel(n_r={self.r.size}, r=[{self.r[0]:.3g}, {self.r[-1]:.3g}] cm, "
+            f"external_field={self.external_field:.3g} G, inner_edge={self.inner_edge!r}, "
+            f"outer_edge={self.outer_edge!r})"
+        )
+
+    def _solution(self, t: Float, psi: Float, b_rs: Float, method: str) -> FluxSolution:
+        b_z = np.stack([np.asarray(self._system.b_z(np.ascontiguousarray(p))) for p in psi])
+        return FluxSolution(r=self.r, t=t, psi=psi, b_z=b_z, b_rs=b_rs, method=method)
+
+    def steady_state(self) -> FluxSolution:
+        """Solve for the steady state ``d psi/dt = 0`` with held edges at their ``psi_ext`` values.
+
+        Returns
+        -------
+        FluxSolution
+            One profile, ``t = [inf]``.
+
+        Raises
+        ------
+        ConvergenceError
+            When there is no unique steady state (singular system, for instance no advection and no
+            diffusion) or the solution misses the equations by more than 1e-8 relative; carries the
+            residual.
+        """
+        psi, b = self._system.steady_state()
+        return self._solution(np.array([np.inf]), np.asarray(psi)[None, :], np.asarray(b)[None, :], "steady")
+
+    def evolve(
+        self,
+        t_end: float,
+        *,
+        method: Literal["bdf2", "cn", "be"] = "bdf2",
+        n_steps: int = 200,
+        n_save: int = 51,
+        psi0: ArrayLike | None = None,
+        progress: bool | None = None,
+    ) -> FluxSolution:
+        """Integrate from ``psi0`` to ``t_end`` with a fixed implicit step.
+
+        Parameters
+        ----------
+        t_end : float
+            End time [s], > 0.
+        method : {"bdf2", "cn", "be"}
+            Second-order BDF (L-stable, default; first step backward Euler), Crank-Nicolson (second order,
+            may ring on rough data), backward Euler (first order).
+        n_steps : int
+            Number of equal steps; the step matrix is factored once and reused.
+        n_save : int
+            Number of stored profiles, including t = 0 and t_end (spread evenly over the steps).
+        psi0 : array_like, optional
+            Initial flux function [G cm^2]; default ``psi_ext`` (no disk currents at t = 0).
+        progress : bool or None
+            Show a progress bar; ``None`` shows it only on a terminal.
+
+        Returns
+        -------
+        FluxSolution
+            Profiles at the saved times. Ctrl-C stops between steps (KeyboardInterrupt).
+        """
+        t_end_f = _scalar("t_end", t_end, "s")
+        if not t_end_f > 0:
+            raise InputError(f"t_end: must be positive, got {t_end_f}")
+        if method not in ("bdf2", "cn", "be"):
+            raise InputError(f"method: must be 'bdf2', 'cn' or 'be', got {method!r}")
+        if int(n_steps) != n_steps or n_steps < 1:
+            raise InputError(f"n_steps: must be a positive integer, got {n_steps!r}")
+        if int(n_save) != n_save or n_save < 2:
+            raise InputError(f"n_save: must be an integer >= 2, got {n_save!r}")
+        n_steps = int(n_steps)
+        p0 = self.psi_ext if psi0 is None else _on_grid("psi0", psi0, self.r, "G cm2")
+        dt = t_end_f / n_steps
+        marks = np.unique(np.linspace(0, n_steps, min(int(n_save), n_steps + 1)).round().astype(int))
+        stepper = _core.FluxStepper(self._system, np.ascontiguousarray(p0), dt, method)
+        ts, psis, brs = [0.0], [np.asarray(stepper.psi())], [np.asarray(stepper.b_rs())]
+        with tqdm(total=n_steps, disable=(None if progress is None else not progress), unit="step") as bar:
+            done = 0
+            for mark in marks[1:]:
+                while done < mark:
+                    chunk = int(min(mark - done, max(1, n_steps // 100)))
+                    stepper.advance(chunk)
+                    done += chunk
+                    bar.update(chunk)
+                ts.append(done * dt)
+                psis.append(np.asarray(stepper.psi()))
+                brs.append(np.asarray(stepper.b_rs()))
+        return self._solution(np.array(ts), np.stack(psis), np.stack(brs), method)
+
+
+@dataclass(frozen=True)
+class CriticalRadius:
+    """Where the field becomes dynamically dominant.
+
+    Attributes
+    ----------
+    radius : float
+        Outermost radius [cm] of the region, starting at the inner edge, where the criterion holds
+        (interpolated in ``ln r`` to the crossing for the built-in criteria); NaN when it fails already at
+        the inner edge.
+    reached : bool
+        Whether the criterion holds at the inner edge (the disk reaches its critical radius).
+    criterion : str
+        ``"inclination"``, ``"beta"`` or ``"callable"``.
+    threshold : float
+        Threshold used (degrees for the inclination, dimensionless for beta; NaN for a callable).
+    """
+
+    radius: float
+    reached: bool
+    criterion: str
+    threshold: float
+
+
+def critical_radius(
+    solution: FluxSolution,
+    *,
+    criterion: Literal["inclination", "beta"] | Callable[[Float, Float, Float], ArrayLike] = "inclination",
+    threshold: float | None = None,
+    p_mid: ArrayLike | None = None,
+    time_index: int = -1,
+) -> CriticalRadius:
+    """Outermost radius inside which the field is dynamically dominant by the chosen criterion.
+
+    Parameters
+    ----------
+    solution : FluxSolution
+        Result of `FluxModel.evolve` or `FluxModel.steady_state`.
+    criterion : {"inclination", "beta"} or callable
+        ``"inclination"``: surface field more than ``threshold`` degrees from the vertical (default 30, the
+        Blandford & Payne 1982 condition for centrifugal launching of a cold wind). ``"beta"``: midplane
+        plasma beta ``8 pi P / B_z^2`` below ``threshold`` (default 1, rough equipartition; common practice),
+        needs ``p_mid``. A callable ``f(r, b_z, b_rs)`` [cm, G, G] returning a boolean array.
+    threshold : float, optional
+        See ``criterion``.
+    p_mid : array_like, optional
+        Midplane pressure of the disk [dyn cm^-2] for ``criterion="beta"``.
+    time_index : int
+        Which saved profile to use (default the last).
+
+    Returns
+    -------
+    CriticalRadius
+        A model prediction: it inherits every assumption of the flux model (kinematic, thin disk,
+        current-free exterior) and of the criterion (cold, rigid field lines for the 30 degree rule).
+
+    References
+    ----------
+    R. D. Blandford and D. G. Payne, MNRAS 199, 883 (1982).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from fluxfunnel.flux import FluxModel, critical_radius
+    >>> r = np.geomspace(1.0, 1e4, 121)
+    >>> model = FluxModel(r, u_adv=-0.9 / r, u_dif=1.0 / r, external_field=1.0)
+    >>> critical_radius(model.steady_state()).reached
+    True
+    """
+    if not isinstance(solution, FluxSolution):
+        raise InputError(f"solution: must be a FluxSolution, got {type(solution).__name__}")
+    try:
+        b_z = solution.b_z[time_index]
+        b_rs = solution.b_rs[time_index]
+    except IndexError as exc:
+        raise InputError(f"time_index: {time_index} is out of range for {solution.t.size} profiles") from exc
+    r = solution.r
+    measure: Float | None
+    if callable(criterion):
+        ok = np.asarray(criterion(r, b_z, b_rs), dtype=bool)
+        if ok.shape != r.shape:
+            raise InputError(f"criterion: the callable must return shape {r.shape}, got {ok.shape}")
+        name, thr, measure = "callable", float("nan"), None
+    elif criterion == "inclination":
+        thr = 30.0 if threshold is None else float(threshold)
+        if not 0.0 < thr < 90.0:
+            raise InputError(f"threshold: an inclination must lie in (0, 90) degrees, got {thr}")
+        measure = np.degrees(np.arctan2(b_rs, b_z)) - thr
+        ok = measure > 0
+        name = "inclination"
+    elif criterion == "beta":
+        if p_mid is None:
+            raise InputError("p_mid: the beta criterion needs the midplane pressure profile")
+        thr = 1.0 if threshold is None else float(threshold)
+        if not thr > 0:
+            raise InputError(f"threshold: beta threshold must be positive, got {thr}")
+        beta = solution.midplane_beta(p_mid)[time_index]
+        measure = np.log(thr) - np.log(beta)
+        ok = measure > 0
+        name = "beta"
+    else:
+        raise InputError(f"criterion: must be 'inclination', 'beta' or a callable, got {criterion!r}")
+    if not ok[0]:
+        return CriticalRadius(radius=float("nan"), reached=False, criterion=name, threshold=thr)
+    fails = np.flatnonzero(~ok)
+    if fails.size == 0:
+        return CriticalRadius(radius=float(r[-1]), reached=True, criterion=name, threshold=thr)
+    k = int(fails[0])
+    radius = float(r[k - 1])
+    if measure is not None:
+        m0, m1 = float(measure[k - 1]), float(measure[k])
+        frac = m0 / (m0 - m1)
+        radius = float(np.exp(np.log(r[k - 1]) + frac * (np.log(r[k]) - np.log(r[k - 1]))))
+    return CriticalRadius(radius=radius, reached=True, criterion=name, threshold=thr)
