@@ -560,6 +560,8 @@ def critical_radius(
     threshold: float | None = None,
     p_mid: ArrayLike | None = None,
     time_index: int = -1,
+    inner_buffer: float = 0.1,
+    outer_buffer: float = 0.05,
 ) -> CriticalRadius:
     """Outermost radius inside which the field is dynamically dominant by the chosen criterion.
 
@@ -578,11 +580,16 @@ def critical_radius(
         Midplane pressure of the disk [dyn cm^-2] for ``criterion="beta"``.
     time_index : int
         Which saved profile to use (default the last).
+    inner_buffer, outer_buffer : float
+        Boundary layers left out of the search (dimensionless): radii below ``r[0] (1 + inner_buffer)``
+        and above ``r[-1] (1 - outer_buffer)``. Both grid edges carry thin layers set by the edge
+        conditions rather than by the disk (near ``r[0]`` ``B_z ~ (R - R_in)^(-arctan(lambda)/pi)``; an
+        anchored outer edge with inflow reverses ``B_z`` over a few per cent of ``r[-1]``).
 
     Returns
     -------
     CriticalRadius
-        A model prediction: it inherits every assumption of the flux model (kinematic, thin disk,
+        ``reached`` refers to the first radius outside the inner buffer. A model prediction: it inherits every assumption of the flux model (kinematic, thin disk,
         current-free exterior) and of the criterion (cold, rigid field lines for the 30 degree rule).
 
     References
@@ -605,6 +612,12 @@ def critical_radius(
         b_rs = solution.b_rs[time_index]
     except IndexError as exc:
         raise InputError(f"time_index: {time_index} is out of range for {solution.t.size} profiles") from exc
+    for name, val in (("inner_buffer", inner_buffer), ("outer_buffer", outer_buffer)):
+        if not 0.0 <= float(val) < 1.0:
+            raise InputError(f"{name}: must lie in [0, 1), got {val}")
+    keep = (solution.r >= solution.r[0] * (1 + inner_buffer)) & (solution.r <= solution.r[-1] * (1 - outer_buffer))
+    if not np.any(keep):
+        raise InputError("inner_buffer, outer_buffer: together they leave no radius to search")
     r = solution.r
     measure: Float | None
     if callable(criterion):
@@ -631,6 +644,9 @@ def critical_radius(
         name = "beta"
     else:
         raise InputError(f"criterion: must be 'inclination', 'beta' or a callable, got {criterion!r}")
+    r, ok = r[keep], ok[keep]
+    if measure is not None:
+        measure = measure[keep]
     if not ok[0]:
         return CriticalRadius(radius=float("nan"), reached=False, criterion=name, threshold=thr)
     fails = np.flatnonzero(~ok)

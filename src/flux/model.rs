@@ -377,48 +377,50 @@ impl Stepper {
     fn one_step(&mut self) {
         let sys = &*self.sys;
         let n = sys.len();
-        let (mut target, lu): (Vec<f64>, &Lu) = match (self.method, &self.psi_prev) {
-            (Method::Be, _) => (self.psi.clone(), &self.lu),
+        let pe = &sys.psi_ext;
+        // The right-hand side is formed as a deviation from psi_ext, so that psi = psi_ext stays exact.
+        let (mut dev, lu, g): (Vec<f64>, &Lu, f64) = match (self.method, &self.psi_prev) {
+            (Method::Be, _) => (
+                (0..n).map(|i| self.psi[i] - pe[i]).collect(),
+                &self.lu,
+                self.dt,
+            ),
             (Method::Cn, _) => {
                 let rate = sys.rate(&self.psi, &self.b);
-                (
-                    (0..n)
-                        .map(|i| self.psi[i] - 0.5 * self.dt * rate[i])
-                        .collect(),
-                    &self.lu,
-                )
+                let dev = (0..n)
+                    .map(|i| (self.psi[i] - pe[i]) - 0.5 * self.dt * rate[i])
+                    .collect();
+                (dev, &self.lu, 0.5 * self.dt)
             }
-            (Method::Bdf2, None) => (self.psi.clone(), self.lu_start.as_ref().unwrap_or(&self.lu)),
-            (Method::Bdf2, Some(prev)) => (
-                (0..n)
-                    .map(|i| (4.0 * self.psi[i] - prev[i]) / 3.0)
-                    .collect(),
-                &self.lu,
+            (Method::Bdf2, None) => (
+                (0..n).map(|i| self.psi[i] - pe[i]).collect(),
+                self.lu_start.as_ref().unwrap_or(&self.lu),
+                self.dt,
             ),
+            (Method::Bdf2, Some(prev)) => {
+                let dev = (0..n)
+                    .map(|i| (self.psi[i] - pe[i]) + (self.psi[i] - prev[i]) / 3.0)
+                    .collect();
+                (dev, &self.lu, 2.0 * self.dt / 3.0)
+            }
         };
         for i in 0..n {
             if sys.fixed[i] {
-                target[i] = self.psi[i];
+                dev[i] = self.psi[i] - pe[i];
             }
         }
-        // Matrix M b = target - psi_ext - g L psi_ext (held rows: W b = target - psi_ext).
-        let g = match (self.method, &self.psi_prev) {
-            (Method::Be, _) | (Method::Bdf2, None) => self.dt,
-            (Method::Cn, _) => 0.5 * self.dt,
-            (Method::Bdf2, Some(_)) => 2.0 * self.dt / 3.0,
-        };
-        let pe = &sys.psi_ext;
+        // M b = dev - g L psi_ext (held rows: W b = psi - psi_ext).
         let rhs: Vec<f64> = (0..n)
             .map(|i| {
                 let lp: f64 = sys.local[i].iter().map(|&(j, v)| v * pe[j]).sum();
-                target[i] - pe[i] - g * lp
+                dev[i] - g * lp
             })
             .collect();
         let b = lu.solve(&rhs);
         let mut psi = sys.psi_of(&b);
         for i in 0..n {
             if sys.fixed[i] {
-                psi[i] = target[i]; // held rows exactly, not to rounding of W b + psi_ext
+                psi[i] = self.psi[i]; // held rows exactly, not to rounding of W b + psi_ext
             }
         }
         if self.method == Method::Bdf2 {
