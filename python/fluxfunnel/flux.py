@@ -589,8 +589,9 @@ def critical_radius(
     Returns
     -------
     CriticalRadius
-        ``reached`` refers to the first radius outside the inner buffer. A model prediction: it inherits every assumption of the flux model (kinematic, thin disk,
-        current-free exterior) and of the criterion (cold, rigid field lines for the 30 degree rule).
+        ``reached`` refers to the first radius outside the inner buffer. A model prediction: it inherits
+        every assumption of the flux model (kinematic, thin disk, current-free exterior) and of the
+        criterion (cold, rigid field lines for the 30 degree rule).
 
     References
     ----------
