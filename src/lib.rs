@@ -5,9 +5,11 @@
 //! only registers what `py` provides.
 
 pub mod constants;
+pub mod disk;
 pub mod error;
 pub mod flux;
 pub mod numerics;
+pub mod objects;
 pub mod py;
 
 use pyo3::prelude::*;

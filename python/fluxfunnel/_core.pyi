@@ -16,7 +16,58 @@ def _raise_core_error(kind: str) -> None: ...
 
 # --- objects ------------------------------------------------------------
 
+def objects_gravitational_radius(mass: NDArray[np.float64]) -> NDArray[np.float64]: ...
+def objects_isco_radius(
+    mass: NDArray[np.float64], spin: NDArray[np.float64], prograde: bool
+) -> NDArray[np.float64]: ...
+def objects_horizon_radius(mass: NDArray[np.float64], spin: NDArray[np.float64]) -> NDArray[np.float64]: ...
+def objects_white_dwarf_radius(mass: NDArray[np.float64], mu_e: float) -> NDArray[np.float64]: ...
+def objects_eddington_luminosity(mass: NDArray[np.float64]) -> NDArray[np.float64]: ...
+def objects_eddington_accretion_rate(
+    mass: NDArray[np.float64], efficiency: NDArray[np.float64]
+) -> NDArray[np.float64]: ...
+def objects_magnetospheric_radius(
+    magnetic_moment: NDArray[np.float64], mass: NDArray[np.float64], mdot: NDArray[np.float64], xi: float
+) -> NDArray[np.float64]: ...
+def objects_inner_edge(
+    mass: NDArray[np.float64],
+    spin: NDArray[np.float64],
+    radius: NDArray[np.float64],
+    magnetic_moment: NDArray[np.float64],
+    mdot: NDArray[np.float64],
+    xi: float,
+    prograde: bool,
+) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], NDArray[np.uint8]]: ...
+
 # --- disk ------------------------------------------------------------
+
+from typing import final  # noqa: E402
+
+@final
+class AlphaDiskCore:
+    def __new__(
+        cls,
+        mass: float,
+        mdot: float,
+        alpha: float,
+        r_in: float,
+        mu: float,
+        kappa0: float,
+        hydrogen_fraction: float,
+        midplane_factor: float,
+    ) -> AlphaDiskCore: ...
+    def profile(
+        self, r: NDArray[np.float64], quantity: str
+    ) -> tuple[NDArray[np.float64], tuple[float, float, float]]: ...
+    def density(
+        self, r: NDArray[np.float64], z: NDArray[np.float64], polytropic_index: float | None = None
+    ) -> tuple[NDArray[np.float64], tuple[float, float, float]]: ...
+    def plasma_beta(
+        self, r: NDArray[np.float64], b_z: NDArray[np.float64]
+    ) -> tuple[NDArray[np.float64], tuple[float, float, float]]: ...
+    def validity(
+        self, r: NDArray[np.float64]
+    ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]: ...
 
 # --- stats ------------------------------------------------------------
 

@@ -5,5 +5,6 @@ pub mod checks;
 pub mod dense;
 pub mod elliptic;
 pub mod quadrature;
+pub mod elementwise;
 
 pub use cancel::Cancel;

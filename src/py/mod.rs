@@ -2,8 +2,10 @@
 //! helper that runs long work without the GIL. Nothing outside this folder uses pyo3.
 
 pub mod diagnostics;
+pub mod disk;
 pub mod errors;
 pub mod flux;
+pub mod objects;
 pub mod run;
 
 use pyo3::prelude::*;
@@ -12,5 +14,7 @@ use pyo3::prelude::*;
 pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     diagnostics::register(m)?;
     flux::register(m)?;
+    objects::register(m)?;
+    disk::register(m)?;
     Ok(())
 }
