@@ -11,6 +11,7 @@ pub mod flux;
 pub mod numerics;
 pub mod objects;
 pub mod py;
+pub mod vertical;
 
 use pyo3::prelude::*;
 

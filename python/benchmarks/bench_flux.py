@@ -15,7 +15,6 @@ import time
 import numpy as np
 import scipy.linalg as la
 import scipy.special as sc
-
 from fluxfunnel.flux import FluxModel
 
 N = 1000

@@ -3,8 +3,8 @@
 pub mod cancel;
 pub mod checks;
 pub mod dense;
+pub mod elementwise;
 pub mod elliptic;
 pub mod quadrature;
-pub mod elementwise;
 
 pub use cancel::Cancel;

@@ -7,6 +7,7 @@ pub mod errors;
 pub mod flux;
 pub mod objects;
 pub mod run;
+pub mod vertical;
 
 use pyo3::prelude::*;
 
@@ -16,5 +17,6 @@ pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     flux::register(m)?;
     objects::register(m)?;
     disk::register(m)?;
+    vertical::register(m)?;
     Ok(())
 }
