@@ -42,6 +42,9 @@ __all__ = [
     "FluxSolution",
     "CriticalRadius",
     "critical_radius",
+    "TurbulenceTemplate",
+    "TransportSpeeds",
+    "transport_speeds",
 ]
 
 Float = NDArray[np.float64]
@@ -660,3 +663,245 @@ def critical_radius(
         frac = m0 / (m0 - m1)
         radius = float(np.exp(np.log(r[k - 1]) + frac * (np.log(r[k]) - np.log(r[k - 1]))))
     return CriticalRadius(radius=radius, reached=True, criterion=name, threshold=thr)
+
+
+# --- from local turbulence to transport speeds at every radius ---------------------------------------------
+
+VerticalProfile = Callable[[Float, Float], Float]
+
+
+def _no_vertical(zeta: Float, beta: Float) -> Float:
+    return np.zeros(np.broadcast_shapes(zeta.shape, beta.shape))
+
+
+@dataclass(frozen=True)
+class TurbulenceTemplate:
+    """Transport coefficients of the turbulence in units of the local disk, against ``zeta = z/H``.
+
+    Parameters
+    ----------
+    name : str
+        Label used in results and plots.
+    pm : float
+        Turbulent magnetic Prandtl number ``nu/eta`` at the midplane (dimensionless), ``nu = alpha c_s H``.
+    eta_shape : callable
+        ``eta(z)/eta(0)`` as a function of ``zeta`` (array in, array out, positive).
+    vertical : dict of str to callable
+        Vertical transport velocities by mechanism (``"pumping"``, ``"buoyancy"``, ``"entropy drift"``,
+        ...), each ``f(zeta, beta) -> v_z / c_s`` (dimensionless, > 0 lifts the field), with ``beta`` the
+        local midplane plasma beta of the mean field, broadcast as ``(N, 1)`` against ``zeta`` ``(nz,)``.
+    top : float
+        Height of the surface where the outside field is matched, in units of ``H``.
+
+    Notes
+    -----
+    A template is the stage where turbulence statistics enter as coefficients; this version takes the
+    coefficients themselves (what the closure stage predicts), so any closure result or shearing-box
+    measurement can be put in as profiles. The built-in constructors are `plain_diffusion` and `buoyant`.
+    """
+
+    name: str
+    pm: float
+    eta_shape: Callable[[Float], Float]
+    vertical: dict[str, VerticalProfile]
+    top: float = 1.0
+
+    @classmethod
+    def plain_diffusion(cls, pm: float = 1.0) -> TurbulenceTemplate:
+        """Uniform diffusivity ``eta = nu/Pm`` and no vertical transport (the classic thin-disk problem).
+
+        Parameters
+        ----------
+        pm : float
+            Turbulent magnetic Prandtl number (dimensionless). Shearing-box MRI turbulence gives values of
+            order 1 (common practice, no single source).
+        """
+        return cls(name=f"plain diffusion (Pm={pm:g})", pm=float(pm), eta_shape=np.ones_like, vertical={})
+
+    @classmethod
+    def buoyant(
+        cls, pm: float = 1.0, *, amplitude: float = 0.3, power: float = 3.0, beta_quench: float = 10.0
+    ) -> TurbulenceTemplate:
+        """Uniform ``eta = nu/Pm`` plus a buoyant rise that grows above the midplane.
+
+        ``v_z / c_s = amplitude * zeta**power / (1 + beta_quench / beta)``.
+
+        Parameters
+        ----------
+        pm : float
+            Turbulent magnetic Prandtl number (dimensionless).
+        amplitude : float
+            Rise speed at ``z = H`` for a weak mean field, in units of ``c_s`` (dimensionless). A few tenths
+            of the sound speed is of the order of the Alfven speed of the turbulent field one scale height
+            up, where the turbulent beta has dropped to order 10 (common practice, no single source; an
+            illustrative default, not a fit). The Peclet number of the rise, ``amplitude Pm /(4 alpha)``
+            for ``power = 3``, decides how much it matters.
+        power : float
+            Growth of the rise speed with height (dimensionless), > 0.
+        beta_quench : float
+            Midplane beta of the mean field below which the rise is suppressed (strong mean fields stiffen
+            the turbulence that makes it); the ``1/(1 + beta_quench/beta)`` form is our modelling choice.
+        """
+        for name, v in (("pm", pm), ("amplitude", amplitude), ("power", power), ("beta_quench", beta_quench)):
+            if not (math.isfinite(v) and v > 0):
+                raise InputError(f"{name}: must be finite and positive, got {v}")
+
+        def rise(zeta: Float, beta: Float) -> Float:
+            return amplitude * zeta**power / (1.0 + beta_quench / beta)
+
+        return cls(
+            name=f"buoyant (Pm={pm:g}, v_b(H)={amplitude:g} c_s)",
+            pm=float(pm),
+            eta_shape=np.ones_like,
+            vertical={"buoyancy": rise},
+        )
+
+
+@dataclass(frozen=True, repr=False)
+class TransportSpeeds:
+    """Flux transport speeds at every radius, with the vertical mechanisms kept apart.
+
+    Attributes
+    ----------
+    r : ndarray, shape (N,)
+        Radii [cm].
+    u_adv : ndarray, shape (N,)
+        Advection speed (conductivity-weighted mean inflow) [cm s^-1]; negative drags flux inward.
+    u_dif : ndarray, shape (N,)
+        Coefficient of ``B_rs/B_z`` with every vertical mechanism [cm s^-1].
+    u_dif_diffusion_only : ndarray, shape (N,)
+        The same with no vertical transport (``eta/h`` for uniform ``eta``) [cm s^-1].
+    u_dif_by_mechanism : dict of str to ndarray
+        The same with diffusion plus one mechanism at a time [cm s^-1].
+    zeta : ndarray, shape (nz,)
+        Heights ``z/H`` of the vertical profiles.
+    b_r_over_b_z : ndarray, shape (N, nz)
+        Steady ``B_r/B_z`` through the disk (the bending profile at ``u_psi = 0``).
+    beta : ndarray, shape (N,)
+        Midplane beta of the mean field used by the template (inf when no field was given).
+    template : str
+        Template name.
+    """
+
+    r: Float
+    u_adv: Float
+    u_dif: Float
+    u_dif_diffusion_only: Float
+    u_dif_by_mechanism: dict[str, Float]
+    zeta: Float
+    b_r_over_b_z: Float
+    beta: Float
+    template: str
+
+    @property
+    def steady_tan_inclination(self) -> Float:
+        """Local steady surface ratio ``-u_adv/u_dif`` (dimensionless)."""
+        return -self.u_adv / self.u_dif
+
+    def __repr__(self) -> str:
+        return (
+            f"TransportSpeeds(template={self.template!r}, n_r={self.r.size}, "
+            f"steady tan i in [{self.steady_tan_inclination.min():.3g}, {self.steady_tan_inclination.max():.3g}])"
+        )
+
+
+def transport_speeds(
+    disk: Any,
+    template: TurbulenceTemplate,
+    r: ArrayLike,
+    *,
+    pm: float | None = None,
+    b_z: ArrayLike | None = None,
+    nz: int = 129,
+) -> TransportSpeeds:
+    """Scale a turbulence template with the local disk at each radius and get the flux transport speeds.
+
+    Parameters
+    ----------
+    disk : fluxfunnel.disk.AlphaDisk
+        Disk model: anything with ``sound_speed``, ``scale_height``, ``viscosity``, ``radial_velocity`` and
+        ``midplane_pressure`` methods of radius [cm].
+    template : TurbulenceTemplate
+        Coefficients in local disk units.
+    r : array_like, shape (N,)
+        Radii [cm], strictly increasing, outside the disk's inner edge.
+    pm : float, optional
+        Overrides the template's magnetic Prandtl number (dimensionless).
+    b_z : array_like, optional
+        Mean vertical field at the disk [G], broadcast to ``r``, for templates that depend on the midplane
+        beta ``8 pi P / B_z^2``; default: no field (beta = inf).
+    nz : int
+        Heights per column for the vertical stage.
+
+    Returns
+    -------
+    TransportSpeeds
+        ``u_adv``, ``u_dif`` and their parts. These are model predictions: steady thin-disk vertical
+        balance (``fluxfunnel.vertical.bend_profile``), mean inflow uniform with height, and the template's
+        coefficients, which are assumptions, not measurements.
+
+    Notes
+    -----
+    At each radius, heights ``z = zeta H``; ``eta(z) = (nu/Pm) eta_shape(zeta)``, ``v_z = c_s sum_k f_k``
+    and ``v_r`` the disk's radial velocity; ``u_adv`` and ``u_dif`` follow from the integrating-factor
+    solution of the vertical balance (docs/theory.md, "Vertical structure"). The disk's radial velocity
+    includes its inner-edge factor ``(1 - (r_in/r)^{1/2})^{-1}``.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from fluxfunnel import constants as k
+    >>> from fluxfunnel.disk import AlphaDisk
+    >>> from fluxfunnel.flux import TurbulenceTemplate, transport_speeds
+    >>> disk = AlphaDisk(k.M_SUN, 1e17, 0.1, r_in=1e9)
+    >>> sp = transport_speeds(disk, TurbulenceTemplate.plain_diffusion(1.0), np.geomspace(1e10, 1e11, 4))
+    >>> bool(np.all(sp.steady_tan_inclination < 0.2))  # tan i = 1.5 Pm H/R: a few degrees
+    True
+    """
+    from .vertical import bend_profile
+
+    if not isinstance(template, TurbulenceTemplate):
+        raise InputError(f"template: must be a TurbulenceTemplate, got {type(template).__name__}")
+    rr = _grid(r)
+    p_m = template.pm if pm is None else _scalar("pm", pm, None)
+    if not p_m > 0:
+        raise InputError(f"pm: must be positive, got {p_m}")
+    if int(nz) != nz or nz < 8:
+        raise InputError(f"nz: must be an integer >= 8, got {nz!r}")
+    c_s = np.asarray(disk.sound_speed(rr), dtype=float)
+    h = np.asarray(disk.scale_height(rr), dtype=float)
+    nu = np.asarray(disk.viscosity(rr), dtype=float)
+    v_r = np.asarray(disk.radial_velocity(rr), dtype=float)
+    if b_z is None:
+        beta = np.full(rr.shape, np.inf)
+    else:
+        bz = _on_grid("b_z", b_z, rr, "G")
+        if np.any(bz == 0):
+            raise InputError("b_z: must be nonzero")
+        beta = 8 * np.pi * np.asarray(disk.midplane_pressure(rr), dtype=float) / bz**2
+    zeta = np.linspace(0.0, template.top, int(nz))
+    eta = (nu / (p_m * c_s * h))[:, None] * np.asarray(template.eta_shape(zeta), dtype=float)[None, :]
+    if np.any(~np.isfinite(eta)) or np.any(eta <= 0):
+        raise InputError("template: eta_shape must be finite and positive at every height")
+    vr = (v_r / c_s)[:, None] * np.ones_like(zeta)
+
+    def run(mechanisms: list[str]) -> Any:
+        vz = np.zeros((rr.size, zeta.size))
+        for name in mechanisms:
+            vz = vz + np.asarray(template.vertical[name](zeta[None, :], beta[:, None]), dtype=float)
+        return bend_profile(zeta, eta=eta, v_z=vz, v_r=vr, surface_ratio="steady")
+
+    full = run(list(template.vertical))
+    plain = run([])
+    by_mech = {name: np.asarray(run([name]).u_dif, dtype=float) * c_s for name in template.vertical}
+    return TransportSpeeds(
+        r=rr,
+        u_adv=np.asarray(full.u_adv, dtype=float) * c_s,
+        u_dif=np.asarray(full.u_dif, dtype=float) * c_s,
+        u_dif_diffusion_only=np.asarray(plain.u_dif, dtype=float) * c_s,
+        u_dif_by_mechanism=by_mech,
+        zeta=zeta,
+        b_r_over_b_z=np.asarray(full.b_r_over_b_z),
+        beta=beta,
+        template=template.name,
+    )
