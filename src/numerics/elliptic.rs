@@ -81,6 +81,25 @@ fn max3(a: f64, b: f64, c: f64) -> f64 {
     a.max(b).max(c)
 }
 
+/// Carlson's duplication: iterate `(x, y, z, A) -> ((x + lam)/4, ...)` until `4^-n q < |A_n|`, calling
+/// `each(z_n, lam_n, 4^-n)` before every step; returns `(A_n, 4^-n)`.
+fn duplicate(mut v: [f64; 4], q: f64, mut each: impl FnMut(f64, f64, f64)) -> (f64, f64) {
+    let mut fac = 1.0;
+    for _ in 0..MAX_ITER {
+        if fac * q < v[3].abs() {
+            break;
+        }
+        let (sx, sy, sz) = (v[0].sqrt(), v[1].sqrt(), v[2].sqrt());
+        let lam = sx * sy + sx * sz + sy * sz;
+        each(v[2], lam, fac);
+        for e in v.iter_mut() {
+            *e = 0.25 * (*e + lam);
+        }
+        fac *= 0.25;
+    }
+    (v[3], fac)
+}
+
 /// Carlson's symmetric integral R_F(x, y, z) = (1/2) int_0^inf dt / sqrt((t+x)(t+y)(t+z)).
 /// Requires x, y, z >= 0 with at most one of them zero; NaN otherwise.
 pub fn carlson_rf(x: f64, y: f64, z: f64) -> f64 {
@@ -92,20 +111,7 @@ pub fn carlson_rf(x: f64, y: f64, z: f64) -> f64 {
     let a0 = (x + y + z) / 3.0;
     let q =
         (3.0 * CARLSON_R).powf(-1.0 / 6.0) * max3((a0 - x).abs(), (a0 - y).abs(), (a0 - z).abs());
-    let (mut xm, mut ym, mut zm, mut am) = (x, y, z, a0);
-    let mut fac = 1.0;
-    for _ in 0..MAX_ITER {
-        if fac * q < am.abs() {
-            break;
-        }
-        let (sx, sy, sz) = (xm.sqrt(), ym.sqrt(), zm.sqrt());
-        let lam = sx * sy + sx * sz + sy * sz;
-        xm = 0.25 * (xm + lam);
-        ym = 0.25 * (ym + lam);
-        zm = 0.25 * (zm + lam);
-        am = 0.25 * (am + lam);
-        fac *= 0.25;
-    }
+    let (am, fac) = duplicate([x, y, z, a0], q, |_, _, _| {});
     let xx = fac * (a0 - x) / am;
     let yy = fac * (a0 - y) / am;
     let zz = -xx - yy;
@@ -123,22 +129,10 @@ pub fn carlson_rd(x: f64, y: f64, z: f64) -> f64 {
     let a0 = (x + y + 3.0 * z) / 5.0;
     let q =
         (0.25 * CARLSON_R).powf(-1.0 / 6.0) * max3((a0 - x).abs(), (a0 - y).abs(), (a0 - z).abs());
-    let (mut xm, mut ym, mut zm, mut am) = (x, y, z, a0);
-    let mut fac = 1.0;
     let mut sum = 0.0;
-    for _ in 0..MAX_ITER {
-        if fac * q < am.abs() {
-            break;
-        }
-        let (sx, sy, sz) = (xm.sqrt(), ym.sqrt(), zm.sqrt());
-        let lam = sx * sy + sx * sz + sy * sz;
-        sum += fac / (sz * (zm + lam));
-        xm = 0.25 * (xm + lam);
-        ym = 0.25 * (ym + lam);
-        zm = 0.25 * (zm + lam);
-        am = 0.25 * (am + lam);
-        fac *= 0.25;
-    }
+    let (am, fac) = duplicate([x, y, z, a0], q, |zm, lam, fac| {
+        sum += fac / (zm.sqrt() * (zm + lam))
+    });
     let xx = fac * (a0 - x) / am;
     let yy = fac * (a0 - y) / am;
     let zz = -(xx + yy) / 3.0;

@@ -24,40 +24,26 @@ fn map1<'py>(
     a.as_array().mapv(f).into_pyarray(py)
 }
 
-/// K(m), parameter m = k^2 (NaN outside m <= 1).
-#[pyfunction]
-pub fn flux_ellipk<'py>(
-    py: Python<'py>,
-    m: PyReadonlyArray1<'py, f64>,
-) -> Bound<'py, PyArray1<f64>> {
-    map1(py, m, elliptic::ellipk)
+/// One elementwise binding per complete elliptic integral (same shape in, same shape out).
+macro_rules! elementwise {
+    ($($(#[$doc:meta])* $name:ident => $f:path;)*) => {$(
+        $(#[$doc])*
+        #[pyfunction]
+        pub fn $name<'py>(py: Python<'py>, x: PyReadonlyArray1<'py, f64>) -> Bound<'py, PyArray1<f64>> {
+            map1(py, x, $f)
+        }
+    )*};
 }
 
-/// K from the complementary parameter p = 1 - m.
-#[pyfunction]
-pub fn flux_ellipkm1<'py>(
-    py: Python<'py>,
-    p: PyReadonlyArray1<'py, f64>,
-) -> Bound<'py, PyArray1<f64>> {
-    map1(py, p, elliptic::ellipkm1)
-}
-
-/// E(m), parameter m = k^2.
-#[pyfunction]
-pub fn flux_ellipe<'py>(
-    py: Python<'py>,
-    m: PyReadonlyArray1<'py, f64>,
-) -> Bound<'py, PyArray1<f64>> {
-    map1(py, m, elliptic::ellipe)
-}
-
-/// E from the complementary parameter p = 1 - m.
-#[pyfunction]
-pub fn flux_ellipem1<'py>(
-    py: Python<'py>,
-    p: PyReadonlyArray1<'py, f64>,
-) -> Bound<'py, PyArray1<f64>> {
-    map1(py, p, elliptic::ellipem1)
+elementwise! {
+    /// K(m), parameter m = k^2 (NaN outside m <= 1).
+    flux_ellipk => elliptic::ellipk;
+    /// K from the complementary parameter p = 1 - m.
+    flux_ellipkm1 => elliptic::ellipkm1;
+    /// E(m), parameter m = k^2.
+    flux_ellipe => elliptic::ellipe;
+    /// E from the complementary parameter p = 1 - m.
+    flux_ellipem1 => elliptic::ellipem1;
 }
 
 fn map3<'py>(
