@@ -4,6 +4,9 @@ use rayon::prelude::*;
 
 use crate::error::{CoreError, CoreResult};
 
+/// Trailing-block size (entries) above which an elimination step runs in parallel.
+const PARALLEL_BLOCK: usize = 128 * 128;
+
 /// A dense square matrix stored row-major.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Dense {
@@ -74,7 +77,7 @@ impl Lu {
             let (head, tail) = a.a.split_at_mut((k + 1) * n);
             let pivot_row = &head[k * n..(k + 1) * n];
             let d = pivot_row[k];
-            tail.par_chunks_mut(n).for_each(|row| {
+            let eliminate = |row: &mut [f64]| {
                 let f = row[k] / d;
                 row[k] = f;
                 if f != 0.0 {
@@ -82,7 +85,13 @@ impl Lu {
                         *r -= f * p;
                     }
                 }
-            });
+            };
+            // Fan out over rayon only when the trailing block is big enough to pay for the tasks.
+            if (n - k) * (n - k) >= PARALLEL_BLOCK {
+                tail.par_chunks_mut(n).for_each(eliminate);
+            } else {
+                tail.chunks_mut(n).for_each(eliminate);
+            }
         }
         Ok(Self { lu: a, perm })
     }
