@@ -91,3 +91,20 @@ def test_population_bad_input():
         jet_capability(wd, -1e17, 1.0, alpha=0.02)
     with pytest.raises(InputError, match="outer_radius"):
         jet_capability(wd, 1e17, 1.0, alpha=0.02, outer_radius=2e9)
+
+
+def test_ctrl_c_stops_a_sweep():
+    import os
+    import signal
+    import threading
+    import time
+
+    if not hasattr(signal, "SIGINT"):
+        pytest.skip("needs POSIX signals")
+    wd = CompactObject.white_dwarf(np.linspace(0.5, 1.2, 400) * k.M_SUN)
+    timer = threading.Timer(0.3, lambda: os.kill(os.getpid(), signal.SIGINT))
+    start = time.monotonic()
+    timer.start()
+    with pytest.raises(KeyboardInterrupt):
+        jet_capability(wd, 1e17, 1.0, alpha=0.02, n_r=64, workers=2)
+    assert time.monotonic() - start < 5.0

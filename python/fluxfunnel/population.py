@@ -205,10 +205,15 @@ def jet_capability(
                 results[i] = fut.result()
                 bar.update(1)
         else:
-            with ThreadPoolExecutor(max_workers=workers) as pool:
+            pool = ThreadPoolExecutor(max_workers=workers)
+            try:
                 for i, res in enumerate(pool.map(run, jobs)):
                     results[i] = res
                     bar.update(1)
+            except BaseException:  # Ctrl-C (or an error): drop the systems not started yet
+                pool.shutdown(wait=False, cancel_futures=True)
+                raise
+            pool.shutdown()
     crit = np.array([x[0] for x in results], dtype=float).reshape(shape)
     reached = np.array([x[1] for x in results], dtype=bool).reshape(shape)
     flux = np.array([x[2] for x in results], dtype=float).reshape(shape)
