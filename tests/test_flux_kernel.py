@@ -250,3 +250,15 @@ def test_operator_bad_input():
     with pytest.raises(InputError, match="psi: must be finite"):
         surface_radial_field([1.0, 2.0, 3.0], [0.0, np.nan, 1.0])
     assert math.isclose(float(surface_radial_field([1.0, 2.0, 3.0], [1.0, 1.0, 1.0], psi_ext=1.0)[1]), 0.0)
+
+
+def test_quantity_and_float32_inputs():
+    # Source: astropy.units conversion km -> cm; G is homogeneous of degree 1 (docs/theory.md "Global flux" 2).
+    import astropy.units as u
+
+    assert ring_kernel(1 * u.km, 2 * u.km) == pytest.approx(1e5 * ring_kernel(1.0, 2.0), rel=1e-14)
+    r32 = np.geomspace(1.0, 100.0, 30).astype(np.float32)
+    w32 = flux_operator(r32)
+    w64 = flux_operator(r32.astype(np.float64))
+    np.testing.assert_array_equal(w32, w64)
+    assert w32.dtype == np.float64
