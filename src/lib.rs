@@ -10,6 +10,7 @@ pub mod error;
 pub mod flux;
 pub mod numerics;
 pub mod objects;
+pub mod population;
 pub mod py;
 pub mod vertical;
 

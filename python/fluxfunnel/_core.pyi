@@ -159,3 +159,19 @@ class FluxStepper:
     def steps(self) -> int: ...
 
 # --- population ------------------------------------------------------------
+
+def population_sweep(
+    mass: NDArray[np.float64],
+    mdot: NDArray[np.float64],
+    external_field: NDArray[np.float64],
+    inner_radius: NDArray[np.float64],
+    outer_radius: NDArray[np.float64],
+    template: tuple[float, float, float, float, float],
+    alpha: float,
+    n_r: int,
+    nz: int,
+    criterion: tuple[float, float, float],
+    disk: tuple[float, float, float, float],
+) -> tuple[
+    NDArray[np.float64], NDArray[np.bool_], NDArray[np.float64], NDArray[np.float64], NDArray[np.bool_]
+]: ...

@@ -692,6 +692,10 @@ class TurbulenceTemplate:
         local midplane plasma beta of the mean field, broadcast as ``(N, 1)`` against ``zeta`` ``(nz,)``.
     top : float
         Height of the surface where the outside field is matched, in units of ``H``.
+    builtin : tuple of float or None
+        ``(amplitude, power, beta_quench)`` of the built-in buoyant form (amplitude 0 for plain diffusion),
+        set by the constructors; lets population sweeps run the whole pipeline in Rust. ``None`` for
+        user-defined templates.
 
     Notes
     -----
@@ -705,6 +709,7 @@ class TurbulenceTemplate:
     eta_shape: Callable[[Float], Float]
     vertical: dict[str, VerticalProfile]
     top: float = 1.0
+    builtin: tuple[float, float, float] | None = None
 
     @classmethod
     def plain_diffusion(cls, pm: float = 1.0) -> TurbulenceTemplate:
@@ -716,7 +721,15 @@ class TurbulenceTemplate:
             Turbulent magnetic Prandtl number (dimensionless). Shearing-box MRI turbulence gives values of
             order 1 (common practice, no single source).
         """
-        return cls(name=f"plain diffusion (Pm={pm:g})", pm=float(pm), eta_shape=np.ones_like, vertical={})
+        if not (math.isfinite(pm) and pm > 0):
+            raise InputError(f"pm: must be finite and positive, got {pm}")
+        return cls(
+            name=f"plain diffusion (Pm={pm:g})",
+            pm=float(pm),
+            eta_shape=np.ones_like,
+            vertical={},
+            builtin=(0.0, 3.0, 10.0),
+        )
 
     @classmethod
     def buoyant(
@@ -754,6 +767,7 @@ class TurbulenceTemplate:
             pm=float(pm),
             eta_shape=np.ones_like,
             vertical={"buoyancy": rise},
+            builtin=(float(amplitude), float(power), float(beta_quench)),
         )
 
 

@@ -12,6 +12,7 @@ current-free exterior, the template's coefficients); a "can launch" flag is not 
 
 from __future__ import annotations
 
+import math
 import warnings
 from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
@@ -22,9 +23,10 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 from tqdm.auto import tqdm
 
+from . import _core
 from ._errors import InputError
 from ._validate import as_float, broadcast, check_positive
-from .disk import AlphaDisk, AssumptionWarning
+from .disk import KRAMERS_COEFFICIENT, AlphaDisk, AssumptionWarning
 from .flux import FluxModel, TurbulenceTemplate, critical_radius, transport_speeds
 from .objects import CompactObject
 
@@ -84,7 +86,7 @@ def _one_system(
     criterion: Any,
     threshold: float | None,
 ) -> tuple[float, bool, float, float, bool]:
-    """One system (mass, mdot, external field, inner edge, outer radius) through the whole pipeline."""
+    """Run one system (mass, mdot, external field, inner edge, outer radius) through the pipeline."""
     mass, mdot, b_ext, r_in, r_out = system
     # AssumptionWarning of the disk is silenced by the caller (warning filters are process-wide, so this
     # worker must not touch them) and summarised through disk_valid.
@@ -113,6 +115,7 @@ def jet_capability(
     threshold: float | None = None,
     workers: int | None = None,
     client: Any = None,
+    engine: str = "auto",
     progress: bool | None = None,
 ) -> JetCapability:
     """Run disk -> template -> transport speeds -> steady flux -> critical radius for arrays of systems.
@@ -142,6 +145,10 @@ def jet_capability(
         Threads for the sweep (default: all cores).
     client : dask.distributed.Client, optional
         Run the systems on this cluster instead (one task per system).
+    engine : {"auto", "rust", "python"}
+        ``"rust"``: the whole pipeline per system in Rust, parallel over systems (built-in templates and the
+        inclination criterion only). ``"python"``: stage by stage through the Python API (any template,
+        criterion or client). ``"auto"`` picks Rust when it can.
     progress : bool or None
         Progress bar; ``None`` shows it only on a terminal.
 
@@ -197,6 +204,13 @@ def jet_capability(
 
     results: list[Any] = [None] * len(jobs)
     quiet = None if progress is None else not progress
+    if engine not in ("auto", "rust", "python"):
+        raise InputError(f"engine: must be 'auto', 'rust' or 'python', got {engine!r}")
+    rust_ok = tmpl.builtin is not None and criterion == "inclination" and client is None and tmpl.top == 1.0
+    if engine == "rust" and not rust_ok:
+        raise InputError("engine: 'rust' needs a built-in template, the inclination criterion and no client")
+    if engine != "python" and rust_ok:
+        return _rust_sweep(tmpl, a, pm, int(n_r), threshold, jobs, shape, r_in, set_by, quiet)
     with warnings.catch_warnings(), tqdm(total=len(jobs), disable=quiet, unit="system") as bar:
         warnings.simplefilter("ignore", AssumptionWarning)
         if client is not None:
@@ -236,6 +250,55 @@ def jet_capability(
         inner_tan_inclination=tan_in,
         disk_valid=valid,
         criterion=name,
+    )
+
+
+def _rust_sweep(
+    tmpl: TurbulenceTemplate,
+    alpha: float,
+    pm: float | None,
+    n_r: int,
+    threshold: float | None,
+    jobs: list[Any],
+    shape: tuple[int, ...],
+    r_in: Float,
+    set_by: Any,
+    quiet: bool | None,
+) -> JetCapability:
+    """Run the Rust path of `jet_capability`, in chunks so that the progress bar moves."""
+    cols = np.array(jobs, dtype=float).reshape(-1, 5).T.copy()
+    assert tmpl.builtin is not None
+    amplitude, power, beta_quench = tmpl.builtin
+    template = (float(tmpl.pm if pm is None else pm), amplitude, power, beta_quench, float(tmpl.top))
+    thr = 30.0 if threshold is None else float(threshold)
+    if not 0.0 < thr < 90.0:
+        raise InputError(f"threshold: an inclination must lie in (0, 90) degrees, got {thr}")
+    disk = (0.615, KRAMERS_COEFFICIENT, 0.7, math.sqrt(2.0 * math.pi))  # AlphaDisk defaults
+    n = cols.shape[1]
+    chunk = max(16, n // 50)
+    parts: list[tuple[Any, ...]] = []
+    with tqdm(total=n, disable=quiet, unit="system") as bar:
+        for lo in range(0, n, chunk):
+            sl = [np.ascontiguousarray(c[lo : lo + chunk]) for c in cols]
+            parts.append(_core.population_sweep(*sl, template, alpha, n_r, 129, (thr, 0.1, 0.05), disk))
+            bar.update(sl[0].size)
+    crit, reached, flux, tan_in, valid = (np.concatenate([p[k] for p in parts]) for k in range(5))
+    if not np.all(valid):
+        warnings.warn(
+            f"{int((~valid).sum())} of {valid.size} disks violate the gas-pressure / Kramers alpha-disk "
+            "assumptions somewhere on their grid (see JetCapability.disk_valid)",
+            AssumptionWarning,
+            stacklevel=3,
+        )
+    return JetCapability(
+        critical_radius=crit.reshape(shape),
+        inner_radius=r_in.copy(),
+        can_launch=reached.reshape(shape),
+        set_by=np.array(set_by, dtype=str),
+        flux_inner=flux.reshape(shape),
+        inner_tan_inclination=tan_in.reshape(shape),
+        disk_valid=valid.reshape(shape),
+        criterion="inclination",
     )
 
 

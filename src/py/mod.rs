@@ -6,6 +6,7 @@ pub mod disk;
 pub mod errors;
 pub mod flux;
 pub mod objects;
+pub mod population;
 pub mod run;
 pub mod vertical;
 
@@ -18,5 +19,6 @@ pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     objects::register(m)?;
     disk::register(m)?;
     vertical::register(m)?;
+    population::register(m)?;
     Ok(())
 }
