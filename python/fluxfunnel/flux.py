@@ -285,7 +285,7 @@ class FluxSolution:
 
     @property
     def inclination(self) -> Float:
-        """Angle of the surface field from the vertical [degrees], shape (T, N), in (-90, 90]."""
+        """Angle of the surface field from the vertical [degrees], shape (T, N); beyond +-90 where B_z < 0."""
         return np.degrees(np.arctan2(self.b_rs, self.b_z))
 
     @property
