@@ -75,6 +75,8 @@ def test_white_dwarf_edge_is_its_surface_and_plain_diffusion_cannot_launch():
     assert np.all(res.set_by == "surface") and not res.can_launch.any()
     assert np.all(np.isnan(res.critical_radius))
     assert np.all(res.inner_tan_inclination < math.tan(math.radians(30)))
+    single = jet_capability(CompactObject.white_dwarf(0.6 * k.M_SUN), 1e17, 1.0, alpha=0.02, n_r=32)
+    assert single.can_launch.shape == () and single.inner_radius.shape == ()  # scalar systems stay scalar
 
 
 def test_dask_distributed_gives_the_same_answer():

@@ -182,6 +182,9 @@ def jet_capability(
     r_out = as_float("outer_radius", outer_radius, unit="cm")
     check_positive("outer_radius", r_out)
     edge = objects.inner_edge(md)
+    shape = np.broadcast_shapes(
+        np.shape(objects.mass), md.shape, b_ext.shape, r_out.shape, np.shape(edge.radius)
+    )
     mass, md_b, b_b, r_in, r_o = broadcast(
         mass=np.asarray(objects.mass, dtype=float),
         mdot=md,
@@ -189,10 +192,10 @@ def jet_capability(
         inner_radius=np.asarray(edge.radius, dtype=float),
         outer_radius=r_out,
     )
-    set_by = np.broadcast_to(np.asarray(edge.set_by), mass.shape)
+    r_in = r_in.reshape(shape)
+    set_by = np.broadcast_to(np.asarray(edge.set_by), shape)
     if np.any(r_o <= 10 * r_in):
         raise InputError("outer_radius: must exceed ten times the inner edge for every system")
-    shape = mass.shape
     jobs = [
         tuple(float(v) for v in row)
         for row in zip(mass.ravel(), md_b.ravel(), b_b.ravel(), r_in.ravel(), r_o.ravel(), strict=True)
