@@ -259,3 +259,19 @@ def test_ctrl_c_stops_a_long_evolution():
     with pytest.raises(KeyboardInterrupt):
         model.evolve(1e6, n_steps=10_000_000, n_save=2)
     assert time.monotonic() - start < 5.0
+
+
+def test_steady_power_law_on_a_non_uniform_grid():
+    # Derived: docs/theory.md "Global flux" section 5, f(n) = (3/2) Pm h; the general (non-Toeplitz) operator
+    # path on a grid whose log spacing varies smoothly by a factor of about three.
+    h, pm = 0.05, 10.0
+    s = np.linspace(0.0, 1.0, 241)
+    r = 10 ** (4 * (s + 0.15 * np.sin(np.pi * s) ** 2 * (s - 0.5)))
+    assert np.all(np.diff(r) > 0)
+    nu = 1e-2 * np.sqrt(r)
+    model = FluxModel(r, u_adv=-1.5 * nu / r, u_dif=(nu / pm) / (h * r), external_field=1.0)
+    sol = model.steady_state()
+    n_exact = brentq(lambda n: power_law_ratio(n) - 1.5 * pm * h, 1e-9, 2 - 1e-9)
+    sel = (r > 10) & (r < 1e3)
+    slope = -np.polyfit(np.log(r[sel]), np.log(sol.b_z[0, sel]), 1)[0]
+    assert slope == pytest.approx(n_exact, abs=2e-3)
