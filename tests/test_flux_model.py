@@ -263,7 +263,7 @@ def test_ctrl_c_stops_a_long_evolution():
 
 def test_steady_power_law_on_a_non_uniform_grid():
     # Derived: docs/theory.md "Global flux" section 5, f(n) = (3/2) Pm h; the general (non-Toeplitz) operator
-    # path on a grid whose log spacing varies smoothly by a factor of about three.
+    # path on a grid whose log spacing varies smoothly by about 30 per cent.
     h, pm = 0.05, 10.0
     s = np.linspace(0.0, 1.0, 241)
     r = 10 ** (4 * (s + 0.15 * np.sin(np.pi * s) ** 2 * (s - 0.5)))
