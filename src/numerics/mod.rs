@@ -2,7 +2,10 @@
 
 pub mod cancel;
 pub mod checks;
+pub mod dense;
 pub mod elementwise;
+pub mod elliptic;
 pub mod fft;
+pub mod quadrature;
 
 pub use cancel::Cancel;

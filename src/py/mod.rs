@@ -5,8 +5,10 @@ pub mod closure;
 pub mod diagnostics;
 pub mod disk;
 pub mod errors;
+pub mod flux;
 pub mod measure;
 pub mod objects;
+pub mod population;
 pub mod run;
 pub mod stats;
 pub mod vertical;
@@ -22,5 +24,10 @@ pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     stats::register(m)?;
     measure::register(m)?;
     vertical::register(m)?;
+    flux::register(m)?;
+    objects::register(m)?;
+    disk::register(m)?;
+    vertical::register(m)?;
+    population::register(m)?;
     Ok(())
 }
