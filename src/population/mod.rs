@@ -108,6 +108,10 @@ pub fn critical_radius_inclination(
     (r[*keep.last().unwrap_or(&first)], true, first)
 }
 
+/// Temperature [K] below which the disk model flags its Kramers opacity and mu as inapplicable; the same
+/// common-practice default as `fluxfunnel.disk.AlphaDisk(ionisation_temperature=1e4)`.
+const DEFAULT_IONISATION_TEMPERATURE: f64 = 1.0e4;
+
 fn one(sys: &System, s: &Settings) -> CoreResult<Outcome> {
     let [mu, kappa0, x_h, factor] = s.disk;
     let disk = AlphaDisk::new(
@@ -119,6 +123,7 @@ fn one(sys: &System, s: &Settings) -> CoreResult<Outcome> {
         kappa0,
         x_h,
         factor,
+        DEFAULT_IONISATION_TEMPERATURE,
     )?;
     let n = s.n_r;
     let (lo, hi) = ((1.1 * sys.inner_radius).ln(), sys.outer_radius.ln());

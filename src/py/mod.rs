@@ -25,9 +25,6 @@ pub fn register_all(m: &Bound<'_, PyModule>) -> PyResult<()> {
     measure::register(m)?;
     vertical::register(m)?;
     flux::register(m)?;
-    objects::register(m)?;
-    disk::register(m)?;
-    vertical::register(m)?;
     population::register(m)?;
     Ok(())
 }
