@@ -61,26 +61,27 @@ fn map3<'py>(
     Ok(out.into_pyarray(py))
 }
 
-/// Carlson's R_F(x, y, z).
-#[pyfunction]
-pub fn flux_elliprf<'py>(
-    py: Python<'py>,
-    x: PyReadonlyArray1<'py, f64>,
-    y: PyReadonlyArray1<'py, f64>,
-    z: PyReadonlyArray1<'py, f64>,
-) -> PyResult<Bound<'py, PyArray1<f64>>> {
-    map3(py, x, y, z, elliptic::carlson_rf)
+/// One elementwise binding per Carlson symmetric integral (three equal-length arrays in).
+macro_rules! elementwise3 {
+    ($($(#[$doc:meta])* $name:ident => $f:path;)*) => {$(
+        $(#[$doc])*
+        #[pyfunction]
+        pub fn $name<'py>(
+            py: Python<'py>,
+            x: PyReadonlyArray1<'py, f64>,
+            y: PyReadonlyArray1<'py, f64>,
+            z: PyReadonlyArray1<'py, f64>,
+        ) -> PyResult<Bound<'py, PyArray1<f64>>> {
+            map3(py, x, y, z, $f)
+        }
+    )*};
 }
 
-/// Carlson's R_D(x, y, z).
-#[pyfunction]
-pub fn flux_elliprd<'py>(
-    py: Python<'py>,
-    x: PyReadonlyArray1<'py, f64>,
-    y: PyReadonlyArray1<'py, f64>,
-    z: PyReadonlyArray1<'py, f64>,
-) -> PyResult<Bound<'py, PyArray1<f64>>> {
-    map3(py, x, y, z, elliptic::carlson_rd)
+elementwise3! {
+    /// Carlson's R_F(x, y, z).
+    flux_elliprf => elliptic::carlson_rf;
+    /// Carlson's R_D(x, y, z).
+    flux_elliprd => elliptic::carlson_rd;
 }
 
 /// G(r, r_src) elementwise for equal-length arrays of positive radii.
