@@ -61,26 +61,27 @@ fn map3<'py>(
     Ok(out.into_pyarray(py))
 }
 
-/// Carlson's R_F(x, y, z).
-#[pyfunction]
-pub fn flux_elliprf<'py>(
-    py: Python<'py>,
-    x: PyReadonlyArray1<'py, f64>,
-    y: PyReadonlyArray1<'py, f64>,
-    z: PyReadonlyArray1<'py, f64>,
-) -> PyResult<Bound<'py, PyArray1<f64>>> {
-    map3(py, x, y, z, elliptic::carlson_rf)
+/// One elementwise binding per Carlson symmetric integral (three equal-length arrays in).
+macro_rules! elementwise3 {
+    ($($(#[$doc:meta])* $name:ident => $f:path;)*) => {$(
+        $(#[$doc])*
+        #[pyfunction]
+        pub fn $name<'py>(
+            py: Python<'py>,
+            x: PyReadonlyArray1<'py, f64>,
+            y: PyReadonlyArray1<'py, f64>,
+            z: PyReadonlyArray1<'py, f64>,
+        ) -> PyResult<Bound<'py, PyArray1<f64>>> {
+            map3(py, x, y, z, $f)
+        }
+    )*};
 }
 
-/// Carlson's R_D(x, y, z).
-#[pyfunction]
-pub fn flux_elliprd<'py>(
-    py: Python<'py>,
-    x: PyReadonlyArray1<'py, f64>,
-    y: PyReadonlyArray1<'py, f64>,
-    z: PyReadonlyArray1<'py, f64>,
-) -> PyResult<Bound<'py, PyArray1<f64>>> {
-    map3(py, x, y, z, elliptic::carlson_rd)
+elementwise3! {
+    /// Carlson's R_F(x, y, z).
+    flux_elliprf => elliptic::carlson_rf;
+    /// Carlson's R_D(x, y, z).
+    flux_elliprd => elliptic::carlson_rd;
 }
 
 /// G(r, r_src) elementwise for equal-length arrays of positive radii.
@@ -214,40 +215,34 @@ impl PyFluxSystem {
         })
     }
 
-    /// B_z [G] from psi.
+    /// B_z (gauss) from psi.
     fn b_z<'py>(
         &self,
         py: Python<'py>,
         psi: PyReadonlyArray1<'py, f64>,
     ) -> PyResult<Bound<'py, PyArray1<f64>>> {
-        let psi = vec1(&psi);
-        crate::numerics::checks::same_len("psi", psi.len(), "r", self.inner.len())?;
-        Ok(self.inner.b_z(&psi).into_pyarray(py))
+        self.per_psi(py, psi, FluxSystem::b_z)
     }
 
-    /// B_rs [G] from psi.
+    /// B_rs (gauss) from psi.
     fn b_rs<'py>(
         &self,
         py: Python<'py>,
         psi: PyReadonlyArray1<'py, f64>,
     ) -> PyResult<Bound<'py, PyArray1<f64>>> {
-        let psi = vec1(&psi);
-        crate::numerics::checks::same_len("psi", psi.len(), "r", self.inner.len())?;
-        Ok(self.inner.b_rs(&psi).into_pyarray(py))
+        self.per_psi(py, psi, FluxSystem::b_rs)
     }
 
-    /// d psi / dt [G cm^2 / s] at psi.
+    /// d psi / dt (G cm^2 / s) at psi.
     fn dpsi_dt<'py>(
         &self,
         py: Python<'py>,
         psi: PyReadonlyArray1<'py, f64>,
     ) -> PyResult<Bound<'py, PyArray1<f64>>> {
-        let psi = vec1(&psi);
-        crate::numerics::checks::same_len("psi", psi.len(), "r", self.inner.len())?;
-        Ok(self.inner.dpsi_dt(&psi).into_pyarray(py))
+        self.per_psi(py, psi, FluxSystem::dpsi_dt)
     }
 
-    /// The external flux function psi_ext [G cm^2].
+    /// The external flux function psi_ext (G cm^2).
     fn psi_ext<'py>(&self, py: Python<'py>) -> Bound<'py, PyArray1<f64>> {
         self.inner.psi_ext().to_vec().into_pyarray(py)
     }
@@ -261,6 +256,19 @@ impl PyFluxSystem {
         let sys = self.inner.clone();
         let (psi, b) = run_long(py, move |_| sys.steady_state())?;
         Ok((psi.into_pyarray(py), b.into_pyarray(py)))
+    }
+}
+
+impl PyFluxSystem {
+    fn per_psi<'py>(
+        &self,
+        py: Python<'py>,
+        psi: PyReadonlyArray1<'py, f64>,
+        f: fn(&FluxSystem, &[f64]) -> Vec<f64>,
+    ) -> PyResult<Bound<'py, PyArray1<f64>>> {
+        let psi = vec1(&psi);
+        crate::numerics::checks::same_len("psi", psi.len(), "r", self.inner.len())?;
+        Ok(f(&self.inner, &psi).into_pyarray(py))
     }
 }
 
@@ -293,17 +301,17 @@ impl PyFluxStepper {
         run_long(py, move |cancel| st.advance(n, cancel))
     }
 
-    /// Current psi [G cm^2].
+    /// Current psi (G cm^2).
     fn psi<'py>(&self, py: Python<'py>) -> Bound<'py, PyArray1<f64>> {
         self.inner.psi().to_vec().into_pyarray(py)
     }
 
-    /// Current B_rs [G].
+    /// Current B_rs (gauss).
     fn b_rs<'py>(&self, py: Python<'py>) -> Bound<'py, PyArray1<f64>> {
         self.inner.b_rs().to_vec().into_pyarray(py)
     }
 
-    /// Time reached [s].
+    /// Time reached (s).
     #[getter]
     fn t(&self) -> f64 {
         self.inner.t
