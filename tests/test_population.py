@@ -13,6 +13,11 @@ from fluxfunnel.flux import FluxModel, TurbulenceTemplate, critical_radius, tran
 from fluxfunnel.objects import CompactObject
 from fluxfunnel.population import jet_capability, plot_capability_map
 
+# The disks of these tests are chosen for the transport physics; some are cooler than the ionisation
+# temperature, which the disk model flags with AssumptionWarning (tested in test_disk.py). The transport
+# checks do not depend on the thermal assumptions, so that warning is not an error here.
+pytestmark = pytest.mark.filterwarnings("ignore::fluxfunnel.disk.AssumptionWarning")
+
 matplotlib.use("Agg")
 
 
