@@ -120,7 +120,7 @@ def test_alpha_curve_changes_sign_in_rendered_profiles(coefficients: tuple[Path,
     # Checks the coefficient figure's alpha panel: pixels of the kinetic-alpha curve (colour C0) appear on
     # both sides of the x = 0 line (the curve of opposite signs in the two halves), and above the midplane
     # they lie right of zero (positive alpha, from the negative kinetic helicity put into the upper half),
-    # below it left. The legend's area is masked out.
+    # below it left; the magnetic-alpha curve (C1) lies on the other side. The legend's area is masked out.
     folder, ns = coefficients
     img = _pixels(folder / "01_profiles_and_coefficients.png")
     ax = ns["axs"][1]
@@ -138,6 +138,16 @@ def test_alpha_curve_changes_sign_in_rendered_profiles(coefficients: tuple[Path,
     lower = ys > mid_row + 10
     assert np.mean(xs[upper] > zero_col + 2) > 0.8
     assert np.mean(xs[lower] < zero_col - 2) > 0.8
+    # The magnetic alpha (C1) has the opposite sign: left of zero between 0.3 H and 2 H above the midplane.
+    _, y_lo = ax.transData.transform((0.0, 0.3))
+    _, y_hi = ax.transData.transform((0.0, 2.0))
+    mask_m = np.zeros(img.shape[:2], dtype=bool)
+    mask_m[rows, cols] = _colour_mask(img[rows, cols], "C1")
+    mask_m[int(h - leg.y1) - 2 : int(h - leg.y0) + 2, int(leg.x0) - 2 : int(leg.x1) + 2] = False
+    ys_m, xs_m = np.nonzero(mask_m)
+    band = (ys_m > h - y_hi) & (ys_m < h - y_lo)
+    assert band.sum() > 20
+    assert np.mean(xs_m[band] < zero_col - 1) > 0.8
 
 
 def test_pumping_parts_have_opposite_signs_in_rendered_profiles(coefficients: tuple[Path, dict[str, Any]]) -> None:
