@@ -1,0 +1,174 @@
+"""The notebooks' figures: written, non-empty, and showing the structure the analysis predicts.
+
+The code cells of each notebook run in-process (in a temporary folder), then the PNG files they saved are
+read back with ``matplotlib.image.imread`` and their pixels inspected. Pixel positions come from the
+notebook's own axes (``Axes.get_window_extent`` and ``transData``), which match the saved image because
+the figures are saved at the figure's own dpi.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.image as mpimg
+import matplotlib.pyplot as plt
+import nbformat
+import numpy as np
+import pytest
+from matplotlib.colors import to_rgb
+
+NOTEBOOKS = Path(__file__).resolve().parents[1] / "notebooks"
+
+
+def _run_notebook(name: str, workdir: Path, monkeypatch: pytest.MonkeyPatch) -> dict[str, Any]:
+    """Execute the notebook's code cells in one namespace, in ``workdir``; return the namespace."""
+    nb = nbformat.read(NOTEBOOKS / name, as_version=4)
+    monkeypatch.chdir(workdir)
+    namespace: dict[str, Any] = {"__name__": "__notebook__"}
+    for cell in nb.cells:
+        if cell.cell_type == "code":
+            exec(compile(cell.source, f"{name}:cell", "exec"), namespace)  # noqa: S102 - our own notebook
+    return namespace
+
+
+def _pixels(path: Path) -> np.ndarray:
+    """RGB pixels in [0, 1], rows from the top of the image."""
+    img = mpimg.imread(path)
+    return np.asarray(img[..., :3], dtype=float)
+
+
+def _box(ax: Any, height: int, inset: int = 4) -> tuple[slice, slice]:
+    """Row and column slices of the inside of ``ax`` in a saved image of ``height`` rows."""
+    ext = ax.get_window_extent()
+    rows = slice(int(height - ext.y1) + inset, int(height - ext.y0) - inset)
+    cols = slice(int(ext.x0) + inset, int(ext.x1) - inset)
+    return rows, cols
+
+
+def _colour_mask(img: np.ndarray, colour: str, tol: float = 0.08) -> np.ndarray:
+    return np.all(np.abs(img - np.array(to_rgb(colour))) < tol, axis=-1)
+
+
+@pytest.fixture(scope="module")
+def bending(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict[str, Any]]:
+    mp = pytest.MonkeyPatch()
+    work = tmp_path_factory.mktemp("nb02")
+    try:
+        ns = _run_notebook("02_bending_and_flux_speeds.ipynb", work, mp)
+    finally:
+        mp.undo()
+    yield work / "figures", ns
+    plt.close("all")
+
+
+@pytest.fixture(scope="module")
+def coefficients(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict[str, Any]]:
+    mp = pytest.MonkeyPatch()
+    work = tmp_path_factory.mktemp("nb01")
+    try:
+        ns = _run_notebook("01_snapshots_to_coefficients.ipynb", work, mp)
+    finally:
+        mp.undo()
+    yield work / "figures", ns
+    plt.close("all")
+
+
+@pytest.mark.parametrize(
+    "fixture, names",
+    [
+        ("bending", ["02_field_lines.png", "02_vertical_profiles.png", "02_butterfly.png"]),
+        ("coefficients", ["01_profiles_and_coefficients.png", "01_roberts_comparison.png"]),
+    ],
+)
+def test_figures_written_and_not_blank(fixture: str, names: list[str], request: pytest.FixtureRequest) -> None:
+    # Checks: each PNG exists, is more than a few kB, decodes, and is not a single flat colour.
+    folder, _ = request.getfixturevalue(fixture)
+    for name in names:
+        path = folder / name
+        assert path.is_file(), name
+        assert path.stat().st_size > 5_000, name
+        img = _pixels(path)
+        assert img.shape[0] > 200 and img.shape[1] > 400, name
+        assert img.std() > 0.05, f"{name}: nearly uniform image"
+
+
+def test_butterfly_has_both_field_signs_in_both_halves(bending: tuple[Path, dict[str, Any]]) -> None:
+    # Checks the butterfly diagram (diverging colour map, red = positive b_y, blue = negative): the plot
+    # area is not uniform, and strongly red and strongly blue cells both appear above and below the
+    # midplane (an oscillating dynamo wave reverses the field in each half). The midplane row comes from
+    # the axes' own data transform.
+    folder, ns = bending
+    img = _pixels(folder / "02_butterfly.png")
+    ax = ns["ax"]  # the butterfly axes (the notebook's last ``fig, ax``)
+    rows, cols = _box(ax, img.shape[0])
+    area = img[rows, cols]
+    assert area.std() > 0.1
+    r, g, b = area[..., 0], area[..., 1], area[..., 2]
+    red = (r > 0.6) & (b < 0.45) & (g < 0.5)
+    blue = (b > 0.6) & (r < 0.45) & (g < 0.6)
+    mid_row = int(img.shape[0] - ax.transData.transform((0.0, 0.0))[1]) - rows.start
+    for half in (slice(0, mid_row - 5), slice(mid_row + 5, area.shape[0])):
+        assert red[half].mean() > 0.01
+        assert blue[half].mean() > 0.01
+
+
+def test_alpha_curve_changes_sign_in_rendered_profiles(coefficients: tuple[Path, dict[str, Any]]) -> None:
+    # Checks the coefficient figure's alpha panel: pixels of the kinetic-alpha curve (colour C0) appear on
+    # both sides of the x = 0 line (the curve of opposite signs in the two halves), and above the midplane
+    # they lie right of zero (positive alpha, from the negative kinetic helicity put into the upper half),
+    # below it left; the magnetic-alpha curve (C1) lies on the other side. The legend's area is masked out.
+    folder, ns = coefficients
+    img = _pixels(folder / "01_profiles_and_coefficients.png")
+    ax = ns["axs"][1]
+    h = img.shape[0]
+    rows, cols = _box(ax, h)
+    mask = np.zeros(img.shape[:2], dtype=bool)
+    mask[rows, cols] = _colour_mask(img[rows, cols], "C0")
+    leg = ax.get_legend().get_window_extent()
+    mask[int(h - leg.y1) - 2 : int(h - leg.y0) + 2, int(leg.x0) - 2 : int(leg.x1) + 2] = False
+    x0, y0 = ax.transData.transform((0.0, 0.0))
+    zero_col, mid_row = int(round(x0)), int(round(h - y0))
+    ys, xs = np.nonzero(mask)
+    assert xs.size > 100
+    upper = ys < mid_row - 10
+    lower = ys > mid_row + 10
+    assert np.mean(xs[upper] > zero_col + 2) > 0.8
+    assert np.mean(xs[lower] < zero_col - 2) > 0.8
+    # The magnetic alpha (C1) has the opposite sign: left of zero between 0.3 H and 2 H above the midplane.
+    _, y_lo = ax.transData.transform((0.0, 0.3))
+    _, y_hi = ax.transData.transform((0.0, 2.0))
+    mask_m = np.zeros(img.shape[:2], dtype=bool)
+    mask_m[rows, cols] = _colour_mask(img[rows, cols], "C1")
+    mask_m[int(h - leg.y1) - 2 : int(h - leg.y0) + 2, int(leg.x0) - 2 : int(leg.x1) + 2] = False
+    ys_m, xs_m = np.nonzero(mask_m)
+    band = (ys_m > h - y_hi) & (ys_m < h - y_lo)
+    assert band.sum() > 20
+    assert np.mean(xs_m[band] < zero_col - 1) > 0.8
+
+
+def test_pumping_parts_have_opposite_signs_in_rendered_profiles(coefficients: tuple[Path, dict[str, Any]]) -> None:
+    # Checks the drift panel: in the upper half, the kinetic pumping curve (C0) lies mostly right of zero
+    # (away from the turbulent midplane) and the magnetic pumping curve (C1) mostly left (toward the strong
+    # magnetic fluctuations), i.e. two curves of opposite sign.
+    folder, ns = coefficients
+    img = _pixels(folder / "01_profiles_and_coefficients.png")
+    ax = ns["axs"][2]
+    h = img.shape[0]
+    rows, cols = _box(ax, h)
+    x0, _ = ax.transData.transform((0.0, 0.0))
+    _, y_lo = ax.transData.transform((0.0, 0.3))
+    _, y_hi = ax.transData.transform((0.0, 2.0))
+    leg = ax.get_legend().get_window_extent()
+    for colour, sign in (("C0", +1), ("C1", -1)):
+        mask = np.zeros(img.shape[:2], dtype=bool)
+        mask[rows, cols] = _colour_mask(img[rows, cols], colour)
+        mask[int(h - leg.y1) - 2 : int(h - leg.y0) + 2, int(leg.x0) - 2 : int(leg.x1) + 2] = False
+        mask[: int(h - y_hi)] = False
+        mask[int(h - y_lo) :] = False
+        ys, xs = np.nonzero(mask)
+        assert xs.size > 30, colour
+        assert np.mean(sign * (xs - x0) > 0) > 0.7, colour
