@@ -45,6 +45,8 @@ __all__ = [
     "TurbulenceTemplate",
     "TransportSpeeds",
     "transport_speeds",
+    "template_from_statistics",
+    "template_from_profiles",
 ]
 
 Float = NDArray[np.float64]
@@ -771,6 +773,75 @@ class TurbulenceTemplate:
         )
 
 
+    @classmethod
+    def magnetorotational(
+        cls,
+        alpha: float,
+        *,
+        velocity_dispersion: float = 0.03,
+        midplane_turbulent_beta: float = 30.0,
+        tau_omega: float = 0.7,
+        b_shape: tuple[float, float, float] = (1 / 3, 1 / 3, 1 / 3),
+        top: float = 2.0,
+        eta_floor: float | None = None,
+    ) -> TurbulenceTemplate:
+        r"""Default magnetorotational turbulence, run through the tau closure (`template_from_statistics`).
+
+        Profiles against ``zeta = z/H`` in a vertically isothermal disk: uniform ``<u^2>/c_s^2``; a
+        turbulent magnetic energy density uniform with height, ``<b^2>/8 pi = p_0 / beta_t``, so that
+        ``<b^2>/(4 pi rho c_s^2) = (2/beta_t) exp(zeta^2/2)`` grows as the gas thins; isotropic velocity eddies.
+        Every number is common practice for stratified shearing boxes (no single source): turbulent velocities
+        of a few tenths of the sound speed, midplane turbulent beta of order 10 to 100 with magnetic energy a
+        few times the kinetic, correlation time of order ``1/(q Omega)``; magnetic pressure that falls more
+        slowly with height than the gas pressure. Illustrative defaults, not a fit to any simulation.
+
+        Parameters
+        ----------
+        alpha : float
+            Viscosity parameter of the disk this template is used with (sets ``Pm = alpha c_s H / eta(0)``).
+        velocity_dispersion : float
+            ``<u^2>/c_s^2`` (dimensionless).
+        midplane_turbulent_beta : float
+            ``8 pi p_0 / <b^2>`` at the midplane (dimensionless).
+        tau_omega : float
+            Correlation time in units of ``1/Omega`` (dimensionless).
+        b_shape : tuple of 3 floats
+            Diagonal of the magnetic eddy shape tensor (sums to 1). Azimuthally stretched eddies
+            (``N_y < N_x``) lower ``eta_yy`` and can make it negative high up (then pass ``eta_floor``).
+        top : float
+            Matching height of the outside field, in units of ``H``.
+        eta_floor : float, optional
+            See `template_from_statistics`.
+
+        Returns
+        -------
+        TurbulenceTemplate
+        """
+        for label, v in (
+            ("velocity_dispersion", velocity_dispersion),
+            ("midplane_turbulent_beta", midplane_turbulent_beta),
+            ("tau_omega", tau_omega),
+            ("top", top),
+        ):
+            if not (math.isfinite(v) and v > 0):
+                raise InputError(f"{label}: must be finite and positive, got {v}")
+        n_b = np.asarray(b_shape, dtype=float)
+        if n_b.shape != (3,) or np.any(n_b < 0) or abs(n_b.sum() - 1.0) > 1e-9:
+            raise InputError(f"b_shape: must be 3 non-negative numbers summing to 1, got {b_shape!r}")
+        zeta = np.linspace(0.0, top, 65)
+        return template_from_statistics(
+            zeta,
+            velocity_dispersion=np.full(zeta.size, velocity_dispersion),
+            field_dispersion=2.0 / midplane_turbulent_beta * np.exp(0.5 * zeta**2),
+            tau_omega=tau_omega,
+            alpha=alpha,
+            b_shape=np.diag(n_b),
+            eta_floor=eta_floor,
+            top=top,
+            name=f"magnetorotational closure (beta_t={midplane_turbulent_beta:g}, tau Omega={tau_omega:g})",
+        )
+
+
 @dataclass(frozen=True, repr=False)
 class TransportSpeeds:
     """Flux transport speeds at every radius, with the vertical mechanisms kept apart.
@@ -918,4 +989,283 @@ def transport_speeds(
         b_r_over_b_z=np.asarray(full.b_r_over_b_z),
         beta=beta,
         template=template.name,
+    )
+
+
+# --- templates from turbulence statistics through the closure stage -------------------------------------------
+
+_MECHANISMS = (
+    ("pumping (kinetic)", "pumping_kinetic"),
+    ("pumping (magnetic)", "pumping_magnetic"),
+    ("buoyancy", "buoyancy"),
+    ("entropy drift", "entropy_drift"),
+)
+
+
+def _interpolant(zeta: Float, values: Float) -> Callable[[Float], Float]:
+    def f(x: Float) -> Float:
+        return np.interp(np.abs(np.asarray(x, dtype=float)), zeta, values)
+
+    return f
+
+
+def _mechanism(profile: Callable[[Float], Float]) -> VerticalProfile:
+    def f(zeta: Float, beta: Float) -> Float:
+        return np.broadcast_to(profile(zeta), np.broadcast_shapes(np.shape(zeta), np.shape(beta)))
+
+    return f
+
+
+def _template_from_coefficients(
+    name: str, zeta: Float, coeffs: Any, *, alpha: float, eta_floor: float | None, top: float | None
+) -> TurbulenceTemplate:
+    """Turn closure coefficients on a reference column (c_s = Omega = H = 1) into a template."""
+    eta = np.asarray(coeffs.eta[..., 1, 1], dtype=float)  # eta_yy: acts on J_y = dB_x/dz, bends B_r
+    upper = zeta >= 0
+    z_up, eta_up = zeta[upper], eta[upper]
+    order = np.argsort(z_up)
+    z_up, eta_up = z_up[order], eta_up[order]
+    if eta_floor is not None:
+        if not (math.isfinite(eta_floor) and 0 < eta_floor < 1):
+            raise InputError(f"eta_floor: must lie strictly between 0 and 1, got {eta_floor}")
+        kinetic = np.asarray(coeffs.eta_kinetic[..., 1, 1], dtype=float)[upper][order]
+        eta_up = np.maximum(eta_up, eta_floor * kinetic)
+    if np.any(~np.isfinite(eta_up)) or np.any(eta_up <= 0):
+        i = int(np.argmax(~(eta_up > 0)))
+        raise InputError(
+            f"template: the closure's diffusivity eta_yy turns non-positive at z/H = {z_up[i]:.3g} "
+            f"({eta_up[i]:.3g} c_s H): anisotropic magnetic eddies give negative diffusion there, and the steady "
+            "bending problem is ill-posed; pass eta_floor (a fraction of the kinetic diffusivity) to regularise"
+        )
+    eta0 = float(np.interp(0.0, z_up, eta_up))
+    mechanisms: dict[str, VerticalProfile] = {}
+    for label, field in _MECHANISMS:
+        v = np.asarray(getattr(coeffs, field)[..., 2], dtype=float)[upper][order]
+        if np.max(np.abs(v)) > 1e-12:  # in units of c_s; smaller values are rounding of terms that vanish
+            mechanisms[label] = _mechanism(_interpolant(z_up, v))
+    a = float(alpha)
+    if not (math.isfinite(a) and 0 < a <= 1):
+        raise InputError(f"alpha: must lie in (0, 1], got {alpha}")
+    return TurbulenceTemplate(
+        name=name,
+        pm=a / eta0,
+        eta_shape=_interpolant(z_up, eta_up / eta0),
+        vertical=mechanisms,
+        top=float(z_up[-1] if top is None else top),
+        builtin=None,
+    )
+
+
+def template_from_statistics(
+    zeta: ArrayLike,
+    *,
+    velocity_dispersion: ArrayLike,
+    field_dispersion: ArrayLike,
+    tau_omega: ArrayLike,
+    alpha: float,
+    u_shape: ArrayLike | None = None,
+    b_shape: ArrayLike | None = None,
+    kinetic_helicity: ArrayLike = 0.0,
+    current_helicity: ArrayLike = 0.0,
+    stratification: Literal["isothermal", "adiabatic"] = "isothermal",
+    adiabatic_index: float = 5.0 / 3.0,
+    eta_floor: float | None = None,
+    top: float | None = None,
+    name: str = "closure",
+    closure_options: dict[str, Any] | None = None,
+) -> TurbulenceTemplate:
+    r"""Build a turbulence template from dimensionless turbulence statistics, through the tau closure.
+
+    The statistics are given in units of the local disk against ``zeta = z/H`` (``H = c_s/Omega``) and put on a
+    reference column with ``c_s = Omega = H = 1`` and a Gaussian density ``exp(-zeta^2/2)`` (vertically
+    isothermal disk, gravity ``Omega^2 z``). `fluxfunnel.closure.emf_coefficients` gives there the diffusivity
+    ``eta_yy`` that acts on the radial field and the vertical drifts (kinetic and magnetic pumping, buoyancy of
+    a radial field, entropy-gradient drift), all in units of ``c_s H`` and ``c_s``; `transport_speeds` then
+    scales them with each radius's disk.
+
+    Parameters
+    ----------
+    zeta : array_like, shape (nz,)
+        Heights ``z/H`` (dimensionless), strictly increasing, at least 3 points, ``>= 0`` (upper half; the
+        lower half is the mirror image).
+    velocity_dispersion : array_like, shape (nz,) or (nz, 3, 3)
+        ``<u^2>/c_s^2`` (isotropic split into components by the shape tensor) or the Reynolds tensor over
+        ``c_s^2`` (dimensionless).
+    field_dispersion : array_like, shape (nz,) or (nz, 3, 3)
+        ``<b^2>/(4 pi rho c_s^2)`` or the Maxwell tensor over ``4 pi rho c_s^2`` (dimensionless).
+    tau_omega : array_like, shape (nz,) or scalar
+        Correlation time times the orbital frequency (dimensionless).
+    alpha : float
+        Viscosity parameter of the disk the template will be used with: the template's Prandtl number is
+        ``Pm = alpha / (eta(0) / c_s H)``, so that ``transport_speeds`` reproduces the closure's ``eta``.
+    u_shape, b_shape : array_like, shape (nz, 3, 3) or (3, 3), optional
+        Eddy shape tensors (trace 1); isotropic when omitted.
+    kinetic_helicity, current_helicity : array_like
+        ``<u.curl u>/(c_s Omega)`` and ``<b.curl b>/(4 pi rho c_s Omega)`` (dimensionless); they set the alpha
+        effect, which does not enter the poloidal bending, and are passed on for completeness.
+    stratification : {"isothermal", "adiabatic"}
+        Entropy stratification of the reference column: ``"isothermal"`` (``N^2 = 0``: gamma = 1 response)
+        or ``"adiabatic"`` perturbations of an isothermal disk, ``N^2 = Omega^2 zeta^2 (1 - 1/gamma)`` (stable).
+    adiabatic_index : float
+        ``gamma`` for ``stratification="adiabatic"`` and the adiabatic thermal response.
+    eta_floor : float, optional
+        Regularisation where anisotropic magnetic eddies make ``eta_yy`` non-positive: ``eta`` is raised to this
+        fraction of the kinetic part. Without it a non-positive ``eta`` raises `InputError` (the steady bending
+        problem is ill-posed there, see `fluxfunnel.vertical.bend_profile`).
+    top : float, optional
+        Matching height of the outside field (``z/H``); default the last ``zeta``.
+    name : str
+        Label used in results.
+    closure_options : dict, optional
+        Extra keywords for `fluxfunnel.closure.emf_coefficients` (for example ``closure="unprojected"``).
+
+    Returns
+    -------
+    TurbulenceTemplate
+        With ``eta_shape`` and one vertical mechanism per non-zero closure term. A model prediction: it
+        carries every assumption of the tau closure and of the reference column.
+    """
+    from .closure import TurbulenceState, emf_coefficients
+
+    z = np.asarray(as_float("zeta", zeta), dtype=float)
+    check_increasing("zeta", z, min_len=3)
+    if z[0] < 0:
+        raise InputError(f"zeta: must be >= 0 (the upper half of the disk), got {z[0]}")
+    nz = z.size
+    eye = np.eye(3) / 3.0
+
+    def tensor(label: str, value: ArrayLike | None, shape: ArrayLike | None) -> Float:
+        if value is None:
+            return np.zeros((nz, 3, 3))
+        v = np.asarray(as_float(label, value), dtype=float)
+        check_finite(label, v)
+        if v.ndim <= 1:
+            v = np.broadcast_to(v, (nz,)).copy()
+            if np.any(v < 0):
+                raise InputError(f"{label}: must be non-negative")
+            n = eye if shape is None else np.broadcast_to(np.asarray(shape, dtype=float), (nz, 3, 3))
+            # For projected spectra <f_i f_j>/<f^2> = (delta_ij - N_ij)/2 (docs/stats.md).
+            return v[:, None, None] * (np.eye(3) - n) / 2.0
+        return np.broadcast_to(v, (nz, 3, 3)).copy()
+
+    reynolds = tensor("velocity_dispersion", velocity_dispersion, u_shape)
+    field_t = tensor("field_dispersion", field_dispersion, b_shape)
+    if np.any(np.diagonal(reynolds, axis1=-2, axis2=-1) < 0) or np.any(np.diagonal(field_t, axis1=-2, axis2=-1) < 0):
+        raise InputError("velocity_dispersion, field_dispersion: diagonal components must be non-negative")
+
+    # Mirror onto a column symmetric about the midplane so that vertical gradients are centred there.
+    lower = slice(None, 0, -1) if z[0] == 0 else slice(None, None, -1)
+    zz = np.concatenate([-z[lower], z])
+
+    def even(a: Any) -> Float:
+        a = np.asarray(a, dtype=float)
+        return np.concatenate([a[lower], a])
+
+    def odd(a: Any) -> Float:
+        a = np.broadcast_to(np.asarray(a, dtype=float), (nz,))
+        return np.concatenate([-a[lower], a])
+
+    rho = np.exp(-0.5 * zz**2)
+    if stratification == "isothermal":
+        n2 = np.zeros(zz.size)
+    elif stratification == "adiabatic":
+        n2 = zz**2 * (1.0 - 1.0 / float(adiabatic_index))
+    else:
+        raise InputError(f"stratification: must be 'isothermal' or 'adiabatic', got {stratification!r}")
+
+    def shape_arg(label: str, value: ArrayLike | None) -> Float | None:
+        if value is None:
+            return None
+        v = np.asarray(as_float(label, value), dtype=float)
+        return even(np.broadcast_to(v, (nz, 3, 3)))
+
+    state = TurbulenceState(
+        z=zz,
+        reynolds=even(reynolds),
+        maxwell=even(field_t) * (4.0 * np.pi * rho)[:, None, None],
+        # Helicities change sign across the midplane; the values given are those of the upper half.
+        kinetic_helicity=odd(kinetic_helicity),
+        current_helicity=odd(current_helicity) * 4.0 * np.pi * rho,
+        u_shape=shape_arg("u_shape", u_shape),
+        b_shape=shape_arg("b_shape", b_shape),
+        tau=even(np.broadcast_to(np.asarray(tau_omega, dtype=float), (nz,))),
+        rho=rho,
+        gravity=zz,
+        brunt_vaisala2=n2,
+        sound_speed=np.ones(zz.size),
+    )
+    opts = {"field_direction": (1.0, 0.0, 0.0)}
+    opts.update(closure_options or {})
+    coeffs = emf_coefficients(state, **opts)
+    return _template_from_coefficients(name, zz, coeffs, alpha=alpha, eta_floor=eta_floor, top=top)
+
+
+def template_from_profiles(
+    profiles: Any,
+    *,
+    sound_speed: float,
+    omega: float,
+    tau: ArrayLike,
+    alpha: float,
+    rho: ArrayLike | None = None,
+    eta_floor: float | None = None,
+    name: str = "from snapshots",
+    closure_options: dict[str, Any] | None = None,
+) -> TurbulenceTemplate:
+    """Build a turbulence template from a shearing-box `fluxfunnel.stats.turbulence_profiles` result.
+
+    The box's statistics are put in local disk units with the box's own sound speed and orbital frequency
+    (``zeta = z Omega / c_s``), its upper half (``z > 0``) is kept and `template_from_statistics` does the rest.
+
+    Parameters
+    ----------
+    profiles : object
+        Anything with the attributes ``z`` (nz,) [cm], ``reynolds``, ``maxwell`` (nz, 3, 3) [cm^2 s^-2, G^2],
+        ``u_shape``, ``b_shape`` (nz, 3, 3) and ``rho`` (nz,) or None [g cm^-3], as `turbulence_profiles` returns.
+    sound_speed : float
+        Isothermal sound speed of the box [cm s^-1] (code units are fine if every input uses them).
+    omega : float
+        Orbital frequency of the box [s^-1].
+    tau : array_like
+        Correlation time [s], scalar or (nz,) (for example from `fluxfunnel.stats.correlation_time`).
+    alpha : float
+        Viscosity parameter of the disk the template will be used with (see `template_from_statistics`).
+    rho : array_like, optional
+        Density profile [g cm^-3] when ``profiles.rho`` is None.
+    eta_floor, name, closure_options
+        As for `template_from_statistics`.
+
+    Returns
+    -------
+    TurbulenceTemplate
+    """
+    c_s = _scalar("sound_speed", sound_speed, "cm / s")
+    om = _scalar("omega", omega, "1 / s")
+    if not (c_s > 0 and om > 0):
+        raise InputError("sound_speed, omega: must be positive")
+    z = np.asarray(profiles.z, dtype=float)
+    dens = profiles.rho if getattr(profiles, "rho", None) is not None else rho
+    if dens is None:
+        raise InputError("rho: the profiles carry no density; pass rho")
+    dens = np.broadcast_to(np.asarray(as_float("rho", dens), dtype=float), z.shape)
+    check_positive("rho", dens)
+    tau_a = np.broadcast_to(np.asarray(as_float("tau", tau, unit="s"), dtype=float), z.shape)
+    check_positive("tau", tau_a)
+    up = z > 0
+    if np.count_nonzero(up) < 3:
+        raise InputError("profiles: need at least 3 heights above the midplane")
+    zeta = z[up] * om / c_s
+    rey = np.asarray(profiles.reynolds, dtype=float)[up] / c_s**2
+    mxw = np.asarray(profiles.maxwell, dtype=float)[up] / (4 * np.pi * dens[up] * c_s**2)[:, None, None]
+    return template_from_statistics(
+        zeta,
+        velocity_dispersion=rey,
+        field_dispersion=mxw,
+        tau_omega=tau_a[up] * om,
+        alpha=alpha,
+        u_shape=None if profiles.u_shape is None else np.asarray(profiles.u_shape, dtype=float)[up],
+        b_shape=None if profiles.b_shape is None else np.asarray(profiles.b_shape, dtype=float)[up],
+        eta_floor=eta_floor,
+        name=name,
+        closure_options=closure_options,
     )
