@@ -33,6 +33,16 @@ def _parser() -> argparse.ArgumentParser:
         "--out", type=Path, default=Path("fluxfunnel-demo"), help="folder for the report and plots"
     )
     demo.add_argument("--no-plots", action="store_true", help="skip the PNG plots (no matplotlib needed)")
+    run = sub.add_parser(
+        "run",
+        help="run the pipeline for your own scenario file (TOML)",
+        description="Run object -> disk -> turbulence template -> transport speeds -> steady flux -> critical "
+        "radius for a scenario file, and write a report, a netCDF file and plots.",
+    )
+    run.add_argument("scenario", nargs="?", type=Path, help="scenario file (TOML)")
+    run.add_argument("--out", type=Path, default=None, help="output folder (default: the scenario's output.folder)")
+    run.add_argument("--explain", action="store_true", help="list every scenario table and key and exit")
+    run.add_argument("--check", action="store_true", help="only check the scenario file")
     return p
 
 
@@ -53,7 +63,48 @@ def main(argv: list[str] | None = None) -> int:
             print("interrupted", file=sys.stderr)
             return 130
         return 0
+    if args.command == "run":
+        return _run(args)
     _parser().print_help()
+    return 0
+
+
+def _run(args: argparse.Namespace) -> int:
+    from .scenario import ScenarioError, explain, load_scenario
+
+    if args.explain:
+        print(explain())
+        return 0
+    if args.scenario is None:
+        print("fluxfunnel run: give a scenario file (or --explain for the keys)", file=sys.stderr)
+        return 2
+    try:
+        sc = load_scenario(args.scenario)
+    except ScenarioError as exc:
+        print(f"fluxfunnel run: {exc}", file=sys.stderr)
+        return 2
+    if args.check:
+        print(f"{args.scenario}: scenario is valid")
+        return 0
+    from . import pipeline
+    from ._errors import FluxfunnelError
+
+    try:
+        res = pipeline.run_scenario(sc)
+        out = args.out if args.out is not None else sc.output_folder
+        o = sc["output"]
+        paths = pipeline.write_outputs(res, out, plots=o["plots"], data=o["data"] == "netcdf")
+    except ScenarioError as exc:
+        print(f"fluxfunnel run: {exc}", file=sys.stderr)
+        return 2
+    except FluxfunnelError as exc:
+        print(f"fluxfunnel run: {type(exc).__name__}: {exc}", file=sys.stderr)
+        return 1
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return 130
+    print(pipeline.report(res))
+    print("written: " + ", ".join(str(p) for p in paths))
     return 0
 
 

@@ -782,7 +782,7 @@ class TurbulenceTemplate:
         midplane_turbulent_beta: float = 30.0,
         tau_omega: float = 0.7,
         b_shape: tuple[float, float, float] = (1 / 3, 1 / 3, 1 / 3),
-        top: float = 2.0,
+        top: float = 1.5,
         eta_floor: float | None = None,
     ) -> TurbulenceTemplate:
         r"""Default magnetorotational turbulence, run through the tau closure (`template_from_statistics`).
@@ -809,7 +809,11 @@ class TurbulenceTemplate:
             Diagonal of the magnetic eddy shape tensor (sums to 1). Azimuthally stretched eddies
             (``N_y < N_x``) lower ``eta_yy`` and can make it negative high up (then pass ``eta_floor``).
         top : float
-            Matching height of the outside field, in units of ``H``.
+            Matching height of the outside field, in units of ``H``. The default 1.5 keeps the column
+            inside the turbulent disk body: higher up the turbulent field nears equipartition (with the
+            defaults ``<b^2>/(4 pi rho c_s^2)`` reaches 0.5 at ``2 H``), where the weak-field closure and the
+            thin-disk matching stop applying, and the exponential Peclet factor of the buoyant rise makes
+            the bending very sensitive to this choice (a modelling choice; state it with results).
         eta_floor : float, optional
             See `template_from_statistics`.
 

@@ -149,7 +149,17 @@ SCHEMA: dict[str, dict[str, Key]] = {
         "snapshots": Key(list, [], "snapshot files (.npy, .npz, .h5) for template = 'snapshots'"),
         "velocity_dataset": Key(str, "u", "name of the velocity array in each snapshot file"),
         "field_dataset": Key(str, "b", "name of the magnetic-field array in each snapshot file"),
-        "n_heights": Key(int, 64, "points of the vertical grid per radius", check=_grid_size),
+        "density_dataset": Key(str, None, "name of the density array in each snapshot file (optional)"),
+        "box_sound_speed": Key(float, None, "isothermal sound speed of the snapshots' box", unit="cm / s",
+                               check=_positive),
+        "box_orbital_frequency": Key(float, None, "orbital frequency of the snapshots' box", unit="1 / s",
+                                     check=_positive),
+        "box_spacing": Key(list, None, "cell sizes [dx, dy, dz] of the snapshots [cm]"),
+        "box_correlation_time": Key(float, None, "correlation time of the box turbulence", unit="s",
+                                    check=_positive),
+        "eta_floor": Key(float, None, "regularise negative closure diffusion to this fraction of the kinetic part",
+                         check=_open_unit_interval),
+        "n_heights": Key(int, 65, "points of the vertical grid per radius", check=_grid_size),
     },
     "environment": {
         "field": Key(float, REQUIRED, "uniform poloidal field far from the disk", unit="G", check=_positive),
@@ -325,7 +335,16 @@ def parse_scenario(text: str, *, source: Path | str | None = None) -> Scenario:
         for i, p in enumerate(turb["snapshots"]):
             if not isinstance(p, str):
                 raise fail("turbulence.snapshots", f"entry {i} must be a path string, got {p!r}")
+        for key in ("box_sound_speed", "box_orbital_frequency", "box_spacing", "box_correlation_time"):
+            if turb[key] is None:
+                raise fail(f"turbulence.{key}" if f"turbulence.{key}" in lines else "turbulence",
+                           f"template = 'snapshots' needs turbulence.{key}")
+        sp = turb["box_spacing"]
+        if len(sp) != 3 or not all(isinstance(v, (int, float)) and not isinstance(v, bool) and v > 0 for v in sp):
+            raise fail("turbulence.box_spacing", f"must be three positive cell sizes [dx, dy, dz], got {sp!r}")
     sysm = tables["system"]
+    if sysm["kind"] == "protostar" and sysm["radius"] is None:
+        raise fail("system", "kind = 'protostar' needs system.radius")
     if sysm["kind"] != "black_hole" and sysm["spin"] != 0.0:
         raise fail("system.spin", f"spin is used only for black holes, not for kind = {sysm['kind']!r}")
     return Scenario(tables=tables, source=Path(source) if source is not None else None, lines=lines)
