@@ -34,6 +34,21 @@ def test_demo_writes_report_and_plot(tmp_path, capsys):
     assert re.search(r"Tarnwell A.*?\n  inner edge r_in = \S+ cm, set by the magnetosphere", report)
 
 
+def test_demo_runs_the_whole_chain(tmp_path):
+    out = tmp_path / "demo"
+    assert cli.main(["demo", "--out", str(out)]) == 0
+    report = (out / "report.txt").read_text(encoding="utf-8")
+    assert "Turbulence -> coefficients" in report and "Flux transport and critical radius" in report
+    png = (out / "transport.png").read_bytes()
+    assert png[:8] == b"\x89PNG\r\n\x1a\n" and len(png) > 10_000
+    # Source: Lubow, Papaloizou & Pringle 1994: plain diffusion with Pm ~ 1 bends field lines by an angle of order
+    # H/r, far below the 30 degrees of Blandford & Payne 1982, for the thin black-hole and white-dwarf disks.
+    for name in ("Quillon X-3", "Marrowby CV"):
+        row = re.search(rf"  {name}\s+plain Pm=1\s+\S+\s+\S+\s+\S+\s+(\S+)\s+(.*)", report)
+        assert row is not None
+        assert float(row.group(1)) < 15.0 and row.group(2).strip() == "not reached"
+
+
 def test_demo_without_plots(tmp_path):
     assert cli.main(["demo", "--out", str(tmp_path), "--no-plots"]) == 0
     assert (tmp_path / "report.txt").exists()

@@ -1025,8 +1025,8 @@ def _template_from_coefficients(
 ) -> TurbulenceTemplate:
     """Turn closure coefficients on a reference column (c_s = Omega = H = 1) into a template."""
     eta = np.asarray(coeffs.eta[..., 1, 1], dtype=float)  # eta_yy: acts on J_y = dB_x/dz, bends B_r
-    upper = zeta >= 0
-    z_up, eta_up = zeta[upper], eta[upper]
+    upper = zeta >= -1e-12 * np.max(np.abs(zeta))  # the midplane point may carry rounding of either sign
+    z_up, eta_up = np.maximum(zeta[upper], 0.0), eta[upper]
     order = np.argsort(z_up)
     z_up, eta_up = z_up[order], eta_up[order]
     if eta_floor is not None:
@@ -1218,8 +1218,10 @@ def template_from_profiles(
 ) -> TurbulenceTemplate:
     """Build a turbulence template from a shearing-box `fluxfunnel.stats.turbulence_profiles` result.
 
-    The box's statistics are put in local disk units with the box's own sound speed and orbital frequency
-    (``zeta = z Omega / c_s``), its upper half (``z > 0``) is kept and `template_from_statistics` does the rest.
+    `fluxfunnel.closure.emf_coefficients` runs on the box's own profiles (all measured moments, including the
+    fourth-rank ones; gravity ``Omega^2 z``; the box's isothermal sound speed), and the coefficients are put in
+    local disk units, ``eta / (c_s H)`` and ``v / c_s`` against ``zeta = z Omega / c_s``; the upper half
+    (``z > 0``) becomes the template. No entropy stratification unless the closure options add it.
 
     Parameters
     ----------
@@ -1243,33 +1245,29 @@ def template_from_profiles(
     -------
     TurbulenceTemplate
     """
+    import types
+
+    from .closure import TurbulenceState, emf_coefficients
+
     c_s = _scalar("sound_speed", sound_speed, "cm / s")
     om = _scalar("omega", omega, "1 / s")
     if not (c_s > 0 and om > 0):
         raise InputError("sound_speed, omega: must be positive")
     z = np.asarray(profiles.z, dtype=float)
-    dens = profiles.rho if getattr(profiles, "rho", None) is not None else rho
-    if dens is None:
+    if getattr(profiles, "rho", None) is None and rho is None:
         raise InputError("rho: the profiles carry no density; pass rho")
-    dens = np.broadcast_to(np.asarray(as_float("rho", dens), dtype=float), z.shape)
-    check_positive("rho", dens)
-    tau_a = np.broadcast_to(np.asarray(as_float("tau", tau, unit="s"), dtype=float), z.shape)
-    check_positive("tau", tau_a)
-    up = z > 0
-    if np.count_nonzero(up) < 3:
+    if np.count_nonzero(z > 0) < 3:
         raise InputError("profiles: need at least 3 heights above the midplane")
-    zeta = z[up] * om / c_s
-    rey = np.asarray(profiles.reynolds, dtype=float)[up] / c_s**2
-    mxw = np.asarray(profiles.maxwell, dtype=float)[up] / (4 * np.pi * dens[up] * c_s**2)[:, None, None]
-    return template_from_statistics(
-        zeta,
-        velocity_dispersion=rey,
-        field_dispersion=mxw,
-        tau_omega=tau_a[up] * om,
-        alpha=alpha,
-        u_shape=None if profiles.u_shape is None else np.asarray(profiles.u_shape, dtype=float)[up],
-        b_shape=None if profiles.b_shape is None else np.asarray(profiles.b_shape, dtype=float)[up],
-        eta_floor=eta_floor,
-        name=name,
-        closure_options=closure_options,
+    state = TurbulenceState.from_profiles(
+        profiles, tau=tau, rho=rho, gravity=om**2 * z, sound_speed=np.full(z.shape, c_s)
     )
+    opts: dict[str, Any] = {"field_direction": (1.0, 0.0, 0.0)}
+    opts.update(closure_options or {})
+    coeffs = emf_coefficients(state, **opts)
+    h = c_s / om
+    scaled = types.SimpleNamespace(
+        eta=np.asarray(coeffs.eta) / (c_s * h),
+        eta_kinetic=np.asarray(coeffs.eta_kinetic) / (c_s * h),
+        **{field: np.asarray(getattr(coeffs, field)) / c_s for _, field in _MECHANISMS},
+    )
+    return _template_from_coefficients(name, z / h, scaled, alpha=alpha, eta_floor=eta_floor, top=None)
