@@ -772,7 +772,6 @@ class TurbulenceTemplate:
             builtin=(float(amplitude), float(power), float(beta_quench)),
         )
 
-
     @classmethod
     def magnetorotational(
         cls,
@@ -886,6 +885,26 @@ class TransportSpeeds:
     def steady_tan_inclination(self) -> Float:
         """Local steady surface ratio ``-u_adv/u_dif`` (dimensionless)."""
         return -self.u_adv / self.u_dif
+
+    def to_xarray(self) -> Any:
+        """Return the speeds as an ``xarray.Dataset`` against ``r`` (and ``zeta`` for the profiles)."""
+        import xarray as xr
+
+        data: dict[str, Any] = {
+            "u_adv": ("r", self.u_adv, {"units": "cm s-1", "long_name": "flux advection speed (negative inward)"}),
+            "u_dif": ("r", self.u_dif, {"units": "cm s-1", "long_name": "coefficient of B_rs/B_z"}),
+            "u_dif_diffusion_only": ("r", self.u_dif_diffusion_only, {"units": "cm s-1"}),
+            "beta": ("r", self.beta, {"units": "1", "long_name": "midplane beta of the mean field"}),
+            "b_r_over_b_z": (("r", "zeta"), self.b_r_over_b_z, {"units": "1"}),
+        }
+        for i, (mech, u) in enumerate(self.u_dif_by_mechanism.items()):
+            data[f"u_dif_mechanism_{i}"] = (
+                "r",
+                u,
+                {"units": "cm s-1", "long_name": f"u_dif with diffusion and {mech}"},
+            )
+        coords = {"r": ("r", self.r, {"units": "cm"}), "zeta": ("zeta", self.zeta, {"units": "1"})}
+        return xr.Dataset(data, coords=coords, attrs={"template": self.template})
 
     def __repr__(self) -> str:
         return (

@@ -69,6 +69,22 @@ class JetCapability:
     disk_valid: NDArray[np.bool_]
     criterion: str
 
+    def to_xarray(self) -> Any:
+        """Return the sweep as an ``xarray.Dataset`` (axes ``system_0, ...`` of the broadcast shape)."""
+        import xarray as xr
+
+        dims = tuple(f"system_{i}" for i in range(self.can_launch.ndim))
+        data = {
+            "critical_radius": (dims, self.critical_radius, {"units": "cm"}),
+            "inner_radius": (dims, self.inner_radius, {"units": "cm"}),
+            "can_launch": (dims, self.can_launch.astype(np.int8), {"units": "1", "long_name": "model prediction"}),
+            "set_by": (dims, self.set_by.astype(str), {"long_name": "what sets the inner edge"}),
+            "flux_inner": (dims, self.flux_inner, {"units": "G cm2"}),
+            "inner_tan_inclination": (dims, self.inner_tan_inclination, {"units": "1"}),
+            "disk_valid": (dims, self.disk_valid.astype(np.int8), {"units": "1"}),
+        }
+        return xr.Dataset(data, attrs={"criterion": self.criterion})
+
     def __repr__(self) -> str:
         n = self.can_launch.size
         return (
@@ -182,9 +198,7 @@ def jet_capability(
     r_out = as_float("outer_radius", outer_radius, unit="cm")
     check_positive("outer_radius", r_out)
     edge = objects.inner_edge(md)
-    shape = np.broadcast_shapes(
-        np.shape(objects.mass), md.shape, b_ext.shape, r_out.shape, np.shape(edge.radius)
-    )
+    shape = np.broadcast_shapes(np.shape(objects.mass), md.shape, b_ext.shape, r_out.shape, np.shape(edge.radius))
     mass, md_b, b_b, r_in, r_o = broadcast(
         mass=np.asarray(objects.mass, dtype=float),
         mdot=md,

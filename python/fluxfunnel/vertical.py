@@ -102,6 +102,38 @@ class BendResult:
         )
         return f"BendResult(nz={self.z.size}, {parts}, regularised={int(np.count_nonzero(self.regularised))})"
 
+    def to_xarray(self) -> Any:
+        """Return the result as an ``xarray.Dataset`` (batch axes ``column_0, ...``, height ``z``; units kept)."""
+        import xarray as xr
+
+        batch = np.shape(self.u_adv)
+        dims = tuple(f"column_{i}" for i in range(len(batch)))
+        units = {
+            "u_adv": "cm s-1",
+            "u_dif": "cm s-1",
+            "u_grad": "cm s-1",
+            "steady_surface_ratio": "1",
+            "surface_ratio": "1",
+            "u_psi": "cm s-1",
+            "surface_inclination_deg": "degree",
+            "u_mass": "cm s-1",
+        }
+        data: dict[str, Any] = {}
+        for name, unit in units.items():
+            value = getattr(self, name)
+            if value is not None:
+                data[name] = (dims, np.broadcast_to(np.asarray(value, dtype=float), batch), {"units": unit})
+        if self.b_r_over_b_z is not None:
+            prof = np.asarray(self.b_r_over_b_z, dtype=float)
+            data["b_r_over_b_z"] = ((*dims, "z"), np.broadcast_to(prof, (*batch, self.z.size)), {"units": "1"})
+        data["regularised"] = (
+            (*dims, "z"),
+            np.broadcast_to(self.regularised, (*batch, self.z.size)).astype(np.int8),
+            {"units": "1", "long_name": "eta replaced by eta_floor (1) or not (0)"},
+        )
+        coords = {"z": ("z", self.z, {"units": "cm", "long_name": "height above the midplane"})}
+        return xr.Dataset(data, coords=coords, attrs={"comment": "steady thin-disk bending; model prediction"})
+
 
 def _profile_arg(name: str, value: Any, unit: str | None) -> FloatArray:
     arr = as_float(name, value, unit=unit)
