@@ -34,8 +34,11 @@ def test_ctrl_c_stops_long_work_promptly():
     timer = threading.Timer(0.2, lambda: os.kill(os.getpid(), signal.SIGINT))
     start = time.monotonic()
     timer.start()
-    with pytest.raises(KeyboardInterrupt):
-        _core._busy_wait(30.0)
+    try:
+        with pytest.raises(KeyboardInterrupt):
+            _core._busy_wait(30.0)
+    finally:
+        timer.cancel()
     assert time.monotonic() - start < 2.0
 
 

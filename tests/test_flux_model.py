@@ -256,8 +256,11 @@ def test_ctrl_c_stops_a_long_evolution():
     timer = threading.Timer(0.5, lambda: os.kill(os.getpid(), signal.SIGINT))
     start = time.monotonic()
     timer.start()
-    with pytest.raises(KeyboardInterrupt):
-        model.evolve(1e6, n_steps=10_000_000, n_save=2)
+    try:
+        with pytest.raises(KeyboardInterrupt):
+            model.evolve(1e6, n_steps=10_000_000, n_save=2)
+    finally:
+        timer.cancel()
     assert time.monotonic() - start < 5.0
 
 

@@ -185,8 +185,11 @@ def test_ctrl_c_stops_a_long_test_field_run():
     timer = threading.Timer(0.3, lambda: os.kill(os.getpid(), signal.SIGINT))
     start = time.monotonic()
     timer.start()
-    with pytest.raises(KeyboardInterrupt):
-        measure.test_field(u, eta=1.0, k_test=1.0, spacing=h, t_end=1e4, dt=0.01, n_records=2)
+    try:
+        with pytest.raises(KeyboardInterrupt):
+            measure.test_field(u, eta=1.0, k_test=1.0, spacing=h, t_end=1e4, dt=0.01, n_records=2)
+    finally:
+        timer.cancel()
     assert time.monotonic() - start < 3.0
 
 

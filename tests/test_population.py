@@ -126,10 +126,14 @@ def test_ctrl_c_stops_a_sweep():
 
     if not hasattr(signal, "SIGINT"):
         pytest.skip("needs POSIX signals")
-    wd = CompactObject.white_dwarf(np.linspace(0.5, 1.2, 400) * k.M_SUN)
+    # Enough systems that the sweep lasts far longer than the 0.3 s before the signal on any machine.
+    wd = CompactObject.white_dwarf(np.linspace(0.5, 1.2, 200_000) * k.M_SUN)
     timer = threading.Timer(0.3, lambda: os.kill(os.getpid(), signal.SIGINT))
     start = time.monotonic()
     timer.start()
-    with pytest.raises(KeyboardInterrupt):
-        jet_capability(wd, 1e17, 1.0, alpha=0.02, n_r=64, workers=2)
+    try:
+        with pytest.raises(KeyboardInterrupt):
+            jet_capability(wd, 1e17, 1.0, alpha=0.02, n_r=64, workers=2)
+    finally:
+        timer.cancel()
     assert time.monotonic() - start < 5.0

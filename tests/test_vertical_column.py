@@ -336,8 +336,11 @@ def test_ctrl_c_stops_a_long_run_and_keeps_the_last_snapshot():
     timer = threading.Timer(0.3, lambda: os.kill(os.getpid(), signal.SIGINT))
     start = time.monotonic()
     timer.start()
-    with pytest.raises(KeyboardInterrupt):
-        model.run(1e6, dt=1e-3, n_snapshots=1, progress=False)  # about a billion steps in one chunk
+    try:
+        with pytest.raises(KeyboardInterrupt):
+            model.run(1e6, dt=1e-3, n_snapshots=1, progress=False)  # about a billion steps in one chunk
+    finally:
+        timer.cancel()
     assert time.monotonic() - start < 3.0
     np.testing.assert_array_equal(model.b_x, before)
     assert model.t == 0.0
