@@ -172,3 +172,104 @@ def test_pumping_parts_have_opposite_signs_in_rendered_profiles(coefficients: tu
         ys, xs = np.nonzero(mask)
         assert xs.size > 30, colour
         assert np.mean(sign * (xs - x0) > 0) > 0.7, colour
+
+
+@pytest.fixture(scope="module")
+def population(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict[str, Any]]:
+    mp = pytest.MonkeyPatch()
+    work = tmp_path_factory.mktemp("nb03")
+    try:
+        ns = _run_notebook("03_population_launch_map.ipynb", work, mp)
+    finally:
+        mp.undo()
+    yield work / "figures", ns
+    plt.close("all")
+
+
+def test_population_figures_written_and_not_blank(population: tuple[Path, dict[str, Any]]) -> None:
+    # Checks: each PNG of notebook 03 exists, is more than a few kB, decodes, and is not a flat colour.
+    folder, _ = population
+    names = [
+        "03_black_hole_map.png",
+        "03_accretion_field_map.png",
+        "03_white_dwarf_young_star_maps.png",
+        "03_one_system.png",
+    ]
+    for name in names:
+        path = folder / name
+        assert path.is_file(), name
+        assert path.stat().st_size > 5_000, name
+        img = _pixels(path)
+        assert img.shape[0] > 200 and img.shape[1] > 400, name
+        assert img.std() > 0.05, name
+
+
+def _white_pixels(img: np.ndarray, ax: Any) -> tuple[np.ndarray, np.ndarray]:
+    """Rows and columns (image coordinates) of near-white pixels inside ``ax``: the launch contour.
+
+    The map's colour field uses viridis, which contains no near-white colour, so inside the axes such
+    pixels can only come from the white launch-boundary contour.
+    """
+    rows, cols = _box(ax, img.shape[0])
+    white = np.all(img[rows, cols] > 0.93, axis=-1)
+    ys, xs = np.nonzero(white)
+    return ys + rows.start, xs + cols.start
+
+
+def _boundary_columns(ax: Any, x: np.ndarray, can_launch: np.ndarray, height: int) -> tuple[float, float]:
+    """Pixel columns between which a contour of ``can_launch`` at 0.5 must lie (launching at low x).
+
+    Along each row of cells the 0.5 level of the cell-centred flag lies between the centre of the last
+    launching cell and that of the first non-launching one; over all rows it therefore lies between the
+    smallest of the former and the largest of the latter.
+    """
+    last = np.array([np.nonzero(row)[0].max() for row in can_launch if row.any() and not row.all()])
+    lo = ax.transData.transform((x[last.min()], 1.0))[0]
+    hi = ax.transData.transform((x[last.max() + 1], 1.0))[0]
+    return lo, hi
+
+
+def test_black_hole_map_shows_a_launch_boundary_only_with_the_buoyant_template(
+    population: tuple[Path, dict[str, Any]],
+) -> None:
+    # Checks the rendered mass x spin map: with plain diffusion no system launches, so the panel has no
+    # contour (no white pixels) while its colour field still varies; with the buoyant template the colour
+    # field varies strongly and the white launch contour is drawn, and every contour pixel lies in the
+    # band of masses where the computed flag changes (see _boundary_columns). The flag itself follows from
+    # the 30-degree criterion (Blandford & Payne 1982) applied by fluxfunnel.flux.critical_radius.
+    folder, ns = population
+    img = _pixels(folder / "03_black_hole_map.png")
+    plain_ax, buoyant_ax = ns["bh_axs"]
+    plain, buoyant = ns["bh"][ns["PLAIN"].name], ns["bh"][ns["BUOYANT"].name]
+    assert not plain.can_launch.any()
+    assert 0 < buoyant.can_launch.sum() < buoyant.can_launch.size
+    h = img.shape[0]
+    rows, cols = _box(plain_ax, h)
+    assert img[rows, cols].std() > 0.05
+    assert _white_pixels(img, plain_ax)[0].size == 0
+    rows, cols = _box(buoyant_ax, h)
+    assert img[rows, cols].std() > 0.1
+    ys, xs = _white_pixels(img, buoyant_ax)
+    assert ys.size > 50
+    lo, hi = _boundary_columns(buoyant_ax, ns["masses"], buoyant.can_launch, h)
+    assert np.all((xs > lo - 3) & (xs < hi + 3))
+    # The contour spans the map from bottom to top (every spin row has launching and non-launching holes).
+    assert ys.max() - ys.min() > 0.8 * (rows.stop - rows.start)
+
+
+def test_field_and_star_maps_show_their_launch_boundaries(population: tuple[Path, dict[str, Any]]) -> None:
+    # Checks the other capability maps: the accretion-rate x field map of one hole and the white-dwarf and
+    # young-star panels each mix launching and non-launching systems, so each draws a white contour, and
+    # on the field map the contour lies where the template's beta quench switches launching off.
+    folder, ns = population
+    img = _pixels(folder / "03_accretion_field_map.png")
+    kes = ns["kes"]
+    ys, xs = _white_pixels(img, ns["kes_ax"])
+    assert ys.size > 30
+    lo, hi = _boundary_columns(ns["kes_ax"], ns["fields"], kes.can_launch, img.shape[0])
+    assert np.all((xs > lo - 3) & (xs < hi + 3))
+    img = _pixels(folder / "03_white_dwarf_young_star_maps.png")
+    for ax in ns["star_axs"]:
+        rows, cols = _box(ax, img.shape[0])
+        assert img[rows, cols].std() > 0.05
+        assert _white_pixels(img, ax)[0].size > 20

@@ -33,9 +33,21 @@ def _blocks() -> list[tuple[str, str]]:
 def test_guide_has_one_section_per_stage() -> None:
     # Checks that the guide covers each stage merged so far with an example.
     text = GUIDE.read_text(encoding="utf-8")
-    for module in ("objects", "disk", "synthetic", "snapshots", "stats", "closure", "measure", "vertical"):
+    stages = (
+        "objects",
+        "disk",
+        "synthetic",
+        "snapshots",
+        "stats",
+        "closure",
+        "measure",
+        "vertical",
+        "flux",
+        "population",
+    )
+    for module in stages:
         assert f"fluxfunnel.{module}" in text, module
-    assert len(_blocks()) >= 6
+    assert len(_blocks()) >= 8
 
 
 def test_guide_examples_run_and_print_what_is_shown(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
@@ -60,3 +72,13 @@ def test_guide_examples_run_and_print_what_is_shown(tmp_path: Path, monkeypatch:
     # Source: Lubow, Papaloizou & Pringle 1994 (uniform eta: tan i = |v_r| h / eta).
     res, v_r, big_h, nu = ns["res"], ns["v_r"], ns["H"], ns["nu"]
     assert res.surface_inclination_deg == pytest.approx(np.degrees(np.arctan(abs(v_r) * big_h / nu)), rel=1e-8)  # type: ignore[attr-defined,operator]
+    # Source: Hankel-transform closed form f(n) = G((n+1)/2) G(1-n/2) / [G((3-n)/2) G(n/2)] (docs/theory.md,
+    # "Global flux"), evaluated independently with scipy.special.gamma.
+    from scipy.special import gamma
+
+    n = 1.25
+    f_ref = gamma((n + 1) / 2) * gamma(1 - n / 2) / (gamma((3 - n) / 2) * gamma(n / 2))
+    assert f"closed form): {f_ref:.4f}" in outputs[6]
+    # Derived: docs/theory.md, "Global flux": the steady flux speed vanishes, so tan i = |u_adv| / u_dif.
+    steady, speeds = ns["steady"], ns["speeds"]
+    assert np.allclose(steady.tan_inclination[0, 5:-5], np.abs(speeds.u_adv[5:-5]) / speeds.u_dif[5:-5], rtol=1e-6)  # type: ignore[attr-defined,operator]
