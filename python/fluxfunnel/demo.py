@@ -224,11 +224,7 @@ def _transport_section(out: Path, plots: bool) -> list[str]:
             f"  {z[i]:6.2f}  {profiles.b_shape[i, 1, 1]:7.3f}  {coeffs.eta[i, 1, 1]:13.4e}  "
             f"{coeffs.pumping_kinetic[i, 2]:8.1e}  {coeffs.pumping_magnetic[i, 2]:8.1e}  {coeffs.buoyancy[i, 2]:8.1e}"
         )
-    neg = (
-        np.asarray(coeffs.negative_diffusion).any(axis=-1)
-        if np.ndim(coeffs.negative_diffusion) > 1
-        else (np.asarray(coeffs.negative_diffusion))
-    )
+    neg = np.asarray(coeffs.negative_diffusion)  # one flag per height
     if np.any(neg):
         lines.append(
             f"  negative diffusion at {int(np.sum(neg))} of {z.size} heights: regularised to 20% of the "

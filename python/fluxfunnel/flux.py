@@ -897,13 +897,13 @@ class TransportSpeeds:
             "beta": ("r", self.beta, {"units": "1", "long_name": "midplane beta of the mean field"}),
             "b_r_over_b_z": (("r", "zeta"), self.b_r_over_b_z, {"units": "1"}),
         }
-        for i, (mech, u) in enumerate(self.u_dif_by_mechanism.items()):
-            data[f"u_dif_mechanism_{i}"] = (
-                "r",
-                u,
-                {"units": "cm s-1", "long_name": f"u_dif with diffusion and {mech}"},
-            )
-        coords = {"r": ("r", self.r, {"units": "cm"}), "zeta": ("zeta", self.zeta, {"units": "1"})}
+        for mech, u in self.u_dif_by_mechanism.items():
+            key = "u_dif_" + mech.replace(" ", "_").replace("(", "").replace(")", "")
+            data[key] = ("r", u, {"units": "cm s-1", "long_name": f"u_dif with diffusion and {mech} only"})
+        coords = {
+            "r": ("r", self.r, {"units": "cm", "long_name": "cylindrical radius"}),
+            "zeta": ("zeta", self.zeta, {"units": "1", "long_name": "height over scale height"}),
+        }
         return xr.Dataset(data, coords=coords, attrs={"template": self.template})
 
     def __repr__(self) -> str:
@@ -1130,7 +1130,8 @@ def template_from_statistics(
         Entropy stratification of the reference column: ``"isothermal"`` (``N^2 = 0``: gamma = 1 response)
         or ``"adiabatic"`` perturbations of an isothermal disk, ``N^2 = Omega^2 zeta^2 (1 - 1/gamma)`` (stable).
     adiabatic_index : float
-        ``gamma`` for ``stratification="adiabatic"`` and the adiabatic thermal response.
+        ``gamma`` for ``stratification="adiabatic"`` (the closure's own thermal response stays isothermal
+        unless ``closure_options`` sets ``thermal_response``).
     eta_floor : float, optional
         Regularisation where anisotropic magnetic eddies make ``eta_yy`` non-positive: ``eta`` is raised to this
         fraction of the kinetic part. Without it a non-positive ``eta`` raises `InputError` (the steady bending
@@ -1155,7 +1156,7 @@ def template_from_statistics(
     if z[0] < 0:
         raise InputError(f"zeta: must be >= 0 (the upper half of the disk), got {z[0]}")
     nz = z.size
-    eye = np.eye(3) / 3.0
+    isotropic = np.eye(3) / 3.0
 
     def tensor(label: str, value: ArrayLike | None, shape: ArrayLike | None) -> Float:
         if value is None:
@@ -1166,7 +1167,7 @@ def template_from_statistics(
             v = np.broadcast_to(v, (nz,)).copy()
             if np.any(v < 0):
                 raise InputError(f"{label}: must be non-negative")
-            n = eye if shape is None else np.broadcast_to(np.asarray(shape, dtype=float), (nz, 3, 3))
+            n = isotropic if shape is None else np.broadcast_to(np.asarray(shape, dtype=float), (nz, 3, 3))
             # For projected spectra <f_i f_j>/<f^2> = (delta_ij - N_ij)/2 (docs/stats.md).
             return v[:, None, None] * (np.eye(3) - n) / 2.0
         return np.broadcast_to(v, (nz, 3, 3)).copy()

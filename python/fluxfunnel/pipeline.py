@@ -91,14 +91,11 @@ class ScenarioResult:
         """Profiles against radius as an ``xarray.Dataset`` (units and long names in the attributes)."""
         import xarray as xr
 
-        sp, st = self.speeds, self.steady
+        sp, st = self.speeds, self.steady  # speeds.to_xarray() carries u_adv, u_dif, its parts and B_r/B_z
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", AssumptionWarning)  # flagged by disk_valid below
             sigma, height = self.disk.surface_density(self.r), self.disk.scale_height(self.r)
         data: dict[str, Any] = {
-            "u_adv": ("r", sp.u_adv, {"units": "cm s-1", "long_name": "flux advection speed (negative inward)"}),
-            "u_dif": ("r", sp.u_dif, {"units": "cm s-1", "long_name": "coefficient of B_rs/B_z in the flux speed"}),
-            "u_dif_diffusion_only": ("r", sp.u_dif_diffusion_only, {"units": "cm s-1"}),
             "psi": ("r", st.psi[-1], {"units": "G cm2", "long_name": "flux function R A_phi"}),
             "b_z": ("r", st.b_z[-1], {"units": "G", "long_name": "vertical field at the disk"}),
             "b_rs": ("r", st.b_rs[-1], {"units": "G", "long_name": "radial field at the disk surface"}),
@@ -111,17 +108,6 @@ class ScenarioResult:
                 self.disk_valid.astype(np.int8),
                 {"units": "1", "long_name": "disk assumptions hold (1) or not (0)"},
             ),
-        }
-        for mech, u in sp.u_dif_by_mechanism.items():
-            data["u_dif_" + mech.replace(" ", "_").replace("(", "").replace(")", "")] = (
-                "r",
-                u,
-                {"units": "cm s-1", "long_name": f"u_dif with diffusion and {mech} only"},
-            )
-        data["b_r_over_b_z"] = (("r", "zeta"), sp.b_r_over_b_z, {"units": "1", "long_name": "local steady B_r/B_z"})
-        coords = {
-            "r": ("r", self.r, {"units": "cm", "long_name": "cylindrical radius"}),
-            "zeta": ("zeta", sp.zeta, {"units": "1", "long_name": "height over scale height"}),
         }
         attrs = {
             "title": f"fluxfunnel scenario {self.name}",
@@ -138,7 +124,8 @@ class ScenarioResult:
             "template": self.template,
             "comment": "model predictions under the stated mean-field, thin-disk and steady alpha-disk assumptions",
         }
-        return xr.Dataset(data, coords=coords, attrs=attrs)
+        ds = sp.to_xarray().drop_vars("beta")  # the template's beta; the steady field's is plasma_beta
+        return ds.assign(xr.Dataset(data, coords={"r": ds["r"]})).assign_attrs(attrs)
 
 
 def _object(sc: Scenario) -> Any:
