@@ -1,12 +1,11 @@
 """The binding layer: error mapping and Ctrl-C handling of long Rust work."""
 
-import os
 import signal
-import threading
 import time
 
 import fluxfunnel
 import pytest
+from conftest import sigint_after
 from fluxfunnel import ConvergenceError, FluxfunnelError, InputError, _core
 
 
@@ -31,14 +30,10 @@ def test_long_work_returns_and_validates():
 @pytest.mark.skipif(not hasattr(signal, "SIGINT"), reason="needs POSIX signals")
 def test_ctrl_c_stops_long_work_promptly():
     # A SIGINT sent 0.2 s into a 30 s computation must stop it within a fraction of a second.
-    timer = threading.Timer(0.2, lambda: os.kill(os.getpid(), signal.SIGINT))
     start = time.monotonic()
-    timer.start()
-    try:
+    with sigint_after(0.2):
         with pytest.raises(KeyboardInterrupt):
             _core._busy_wait(30.0)
-    finally:
-        timer.cancel()
     assert time.monotonic() - start < 2.0
 
 

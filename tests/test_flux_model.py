@@ -1,14 +1,13 @@
 """Time evolution, steady states, diagnostics and the critical radius of the ``flux`` stage."""
 
 import math
-import os
 import signal
-import threading
 import time
 
 import numpy as np
 import pytest
 from astropy import constants as ac
+from conftest import sigint_after
 from fluxfunnel import ConvergenceError, InputError
 from fluxfunnel.flux import FluxModel, FluxSolution, critical_radius, power_law_ratio
 from scipy.optimize import brentq
@@ -253,14 +252,10 @@ def test_progress_bar_quiet_when_not_a_terminal(capsys):
 def test_ctrl_c_stops_a_long_evolution():
     r = np.geomspace(1.0, 1e4, 300)
     model = FluxModel(r, u_adv=-0.5 / r, u_dif=1.0 / r, external_field=1.0)
-    timer = threading.Timer(0.5, lambda: os.kill(os.getpid(), signal.SIGINT))
     start = time.monotonic()
-    timer.start()
-    try:
+    with sigint_after(0.5):
         with pytest.raises(KeyboardInterrupt):
             model.evolve(1e6, n_steps=10_000_000, n_save=2)
-    finally:
-        timer.cancel()
     assert time.monotonic() - start < 5.0
 
 

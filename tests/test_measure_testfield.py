@@ -1,12 +1,11 @@
 """Test-field method: Roberts flow against the SOCA closed form, convergence as Rm drops, time dependence."""
 
-import os
 import signal
-import threading
 import time
 
 import numpy as np
 import pytest
+from conftest import sigint_after
 from fluxfunnel import InputError, measure
 from fluxfunnel.flows import roberts_flow
 
@@ -182,14 +181,10 @@ def test_ctrl_c_stops_a_long_test_field_run():
     # A SIGINT 0.3 s into a run of many thousand steps must stop it promptly with KeyboardInterrupt.
     h = box(16, 6, 1.0, 2 * np.pi)
     u = roberts_flow((16, 16, 6), u0=0.3, k=1.0, spacing=h)
-    timer = threading.Timer(0.3, lambda: os.kill(os.getpid(), signal.SIGINT))
     start = time.monotonic()
-    timer.start()
-    try:
+    with sigint_after(0.3):
         with pytest.raises(KeyboardInterrupt):
             measure.test_field(u, eta=1.0, k_test=1.0, spacing=h, t_end=1e4, dt=0.01, n_records=2)
-    finally:
-        timer.cancel()
     assert time.monotonic() - start < 3.0
 
 

@@ -6,6 +6,7 @@ import warnings
 import matplotlib
 import numpy as np
 import pytest
+from conftest import sigint_after
 from fluxfunnel import InputError
 from fluxfunnel import constants as k
 from fluxfunnel.disk import AlphaDisk, AssumptionWarning
@@ -122,21 +123,15 @@ def test_population_bad_input():
 
 
 def test_ctrl_c_stops_a_sweep():
-    import os
     import signal
-    import threading
     import time
 
     if not hasattr(signal, "SIGINT"):
         pytest.skip("needs POSIX signals")
     # Enough systems that the sweep lasts far longer than the 0.3 s before the signal on any machine.
     wd = CompactObject.white_dwarf(np.linspace(0.5, 1.2, 200_000) * k.M_SUN)
-    timer = threading.Timer(0.3, lambda: os.kill(os.getpid(), signal.SIGINT))
     start = time.monotonic()
-    timer.start()
-    try:
+    with sigint_after(0.3):
         with pytest.raises(KeyboardInterrupt):
             jet_capability(wd, 1e17, 1.0, alpha=0.02, n_r=64, workers=2)
-    finally:
-        timer.cancel()
     assert time.monotonic() - start < 5.0

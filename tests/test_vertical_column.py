@@ -5,14 +5,13 @@ dynamo theory; quenching against the steady state of the dynamical-quenching equ
 """
 
 import math
-import os
 import signal
-import threading
 import time
 
 import matplotlib
 import numpy as np
 import pytest
+from conftest import sigint_after
 from fluxfunnel import InputError
 from fluxfunnel.vertical import ColumnHistory, ColumnModel, DynamicalQuenching
 from scipy import integrate
@@ -333,14 +332,10 @@ def test_ctrl_c_stops_a_long_run_and_keeps_the_last_snapshot():
         quenching=DynamicalQuenching(b_eq=1.0, k_f=3.0),
     )
     before = model.b_x.copy()
-    timer = threading.Timer(0.3, lambda: os.kill(os.getpid(), signal.SIGINT))
     start = time.monotonic()
-    timer.start()
-    try:
+    with sigint_after(0.3):
         with pytest.raises(KeyboardInterrupt):
             model.run(1e6, dt=1e-3, n_snapshots=1, progress=False)  # about a billion steps in one chunk
-    finally:
-        timer.cancel()
     assert time.monotonic() - start < 3.0
     np.testing.assert_array_equal(model.b_x, before)
     assert model.t == 0.0
