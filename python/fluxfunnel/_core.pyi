@@ -106,7 +106,8 @@ def _closure_coefficients(
     field_direction: tuple[float, float, float],
     stratification: bool,
     with_b_tensor: bool,
-) -> NDArray[np.float64]: ...
+    divide_magnetic_div: bool = False,
+) -> tuple[NDArray[np.float64], NDArray[np.bool_], NDArray[np.bool_]]: ...
 def _closure_field_response(
     u: NDArray[np.float64],
     b: NDArray[np.float64],

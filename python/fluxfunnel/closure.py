@@ -367,7 +367,7 @@ _RECORD: dict[str, tuple[int, tuple[int, ...]]] = {
     "eta_kinetic": (63, (3, 3)),
     "eta_magnetic": (72, (3, 3)),
 }
-_NEGATIVE, _UNSTABLE, _B_TENSOR = 81, 82, 83
+_B_TENSOR = 83  # offset of the full b tensor in the record; slots 81, 82 hold the flags, returned separately
 
 _UNITS = {
     "alpha": "cm / s",
@@ -662,15 +662,17 @@ def emf_coefficients(
 
     grid = state.grid_shape
     n = int(np.prod(grid, dtype=np.int64))
-    four_pi_rho = 4.0 * math.pi * np.asarray(state.rho)
-    check_positive("rho", np.asarray(state.rho))
+    rho = np.asarray(state.rho)
+    check_positive("rho", rho)
+    zero3 = np.broadcast_to(np.zeros(3), grid + (3,))  # no memory behind a zero divergence
 
-    # Divergences for the pumping terms.
+    # Divergences for the pumping terms. With the density outside the derivative the kernel divides the
+    # divergence of the Maxwell tensor by 4 pi rho itself (one pass over the grid fewer).
+    divide = False
     if state.div_reynolds is not None or state.div_maxwell is not None:
         gradients = "explicit"
-        div_r = np.zeros(grid + (3,)) if state.div_reynolds is None else state.div_reynolds
-        div_m = np.zeros(grid + (3,)) if state.div_maxwell is None else state.div_maxwell
-        mag = div_m / four_pi_rho[..., None]
+        div_r = zero3 if state.div_reynolds is None else state.div_reynolds
+        div_m = zero3 if state.div_maxwell is None else state.div_maxwell
         if density_placement == "inside":
             if state.grad_rho is not None:
                 grad_rho = state.grad_rho
@@ -678,23 +680,25 @@ def emf_coefficients(
                 grad_rho = _gradient(state, np.asarray(state.rho, dtype=np.float64))
             else:
                 raise InputError("grad_rho: needed with density_placement='inside' and explicit div_maxwell")
-            mag = mag - np.einsum("...ij,...j->...i", state.maxwell, grad_rho) / (
-                four_pi_rho[..., None] * np.asarray(state.rho)[..., None]
+            four_pi_rho = 4.0 * math.pi * rho
+            mag = div_m / four_pi_rho[..., None] - np.einsum("...ij,...j->...i", state.maxwell, grad_rho) / (
+                four_pi_rho[..., None] * rho[..., None]
             )
+        else:
+            mag, divide = div_m, True
     elif state.coords is not None:
         gradients = "grid"
         div_r = _divergence(state, np.asarray(state.reynolds))
         if density_placement == "inside":
-            mag = _divergence(state, np.asarray(state.maxwell) / four_pi_rho[..., None, None])
+            mag = _divergence(state, np.asarray(state.maxwell) / (4.0 * math.pi * rho)[..., None, None])
         else:
-            mag = _divergence(state, np.asarray(state.maxwell)) / four_pi_rho[..., None]
+            mag, divide = _divergence(state, np.asarray(state.maxwell)), True
     else:
         gradients = "homogeneous"
-        div_r = np.zeros(grid + (3,))
-        mag = np.zeros(grid + (3,))
+        div_r = mag = zero3
 
     if state.sound_speed is None:
-        c2 = np.zeros(grid)
+        c2 = np.broadcast_to(0.0, grid)
     else:
         c2 = np.asarray(state.sound_speed) ** 2
         if thermal_response == "adiabatic":
@@ -702,7 +706,7 @@ def emf_coefficients(
 
     b_shape4 = None if state.b_shape4 is None else _flat(state.b_shape4, n, (3, 3, 3, 3))
     b_shape = None if state.b_shape4 is not None else _flat(state.b_shape, n, (3, 3))
-    record = _core._closure_coefficients(
+    record, negative, unstable = _core._closure_coefficients(
         _flat(state.reynolds, n, (3, 3)),
         _flat(state.maxwell, n, (3, 3)),
         _flat(state.kinetic_helicity, n, ()),
@@ -721,14 +725,15 @@ def emf_coefficients(
         field_direction=(float(e[0]), float(e[1]), float(e[2])),
         stratification=bool(stratification),
         with_b_tensor=bool(full_tensor),
+        divide_magnetic_div=divide,
     )
     fields = {
         name: record[:, off : off + int(np.prod(tail))].reshape(grid + tail) for name, (off, tail) in _RECORD.items()
     }
     return ClosureCoefficients(
         **fields,
-        negative_diffusion=(record[:, _NEGATIVE] != 0).reshape(grid),
-        convectively_unstable=(record[:, _UNSTABLE] != 0).reshape(grid),
+        negative_diffusion=negative.reshape(grid),
+        convectively_unstable=unstable.reshape(grid),
         b_tensor=record[:, _B_TENSOR : _B_TENSOR + 27].reshape(grid + (3, 3, 3)) if full_tensor else None,
         gradients=gradients,
         coords=state.coords,

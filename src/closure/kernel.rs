@@ -19,7 +19,7 @@
 // Tensor algebra reads best with explicit indices i, j, k as in the formulas.
 #![allow(clippy::needless_range_loop)]
 
-use ndarray::{Array2, ArrayView1, ArrayView2, ArrayView3, ArrayView5, Axis};
+use ndarray::{Array2, ArrayView1, ArrayView2, ArrayView3, ArrayView5, ArrayViewMut2, Axis};
 use rayon::prelude::*;
 
 use super::tensor::{axial, cross, levi, sym, Mat3, Ten3, Vec3};
@@ -74,6 +74,9 @@ pub struct Settings {
     pub stratification: bool,
     /// Also write the full `b_ijk` tensor (27 numbers per point).
     pub with_b_tensor: bool,
+    /// `magnetic_div` holds the divergence of the Maxwell tensor itself \[G^2 cm^-1\]; the kernel divides
+    /// it by `4 pi rho` (saves the caller a pass over the grid when the density sits outside the derivative).
+    pub divide_magnetic_div: bool,
 }
 
 /// Per-point inputs, first axis the flattened grid (length n). Zero strides (broadcast inputs) are fine.
@@ -103,7 +106,8 @@ pub struct PointInputs<'a> {
     pub response_speed2: ArrayView1<'a, f64>,
     /// `div R`, `(div R)_i = d_j R_ij` \[cm s^-2\], (n, 3).
     pub div_reynolds: ArrayView2<'a, f64>,
-    /// Divergence of the Maxwell tensor over `4 pi rho` \[cm s^-2\], (n, 3).
+    /// Divergence of the Maxwell tensor over `4 pi rho` \[cm s^-2\], (n, 3); with
+    /// [`Settings::divide_magnetic_div`] the divergence itself \[G^2 cm^-1\].
     pub magnetic_div: ArrayView2<'a, f64>,
 }
 
@@ -153,22 +157,53 @@ pub fn record_len(settings: &Settings) -> usize {
     Layout::BASE + if settings.with_b_tensor { 27 } else { 0 }
 }
 
+/// Matrix `p` of an (n, 3, 3) view.
+///
+/// Only called from [`point`], after [`coefficients_into`] has checked every view's shape against n, so the
+/// indices are in bounds; the unchecked reads keep index arithmetic out of the per-point cost.
+#[inline(always)]
 fn read_mat(v: &ArrayView3<'_, f64>, p: usize) -> Mat3 {
+    assert!(p < v.len_of(Axis(0)) && v.shape()[1] == 3 && v.shape()[2] == 3);
     let mut m = [[0.0; 3]; 3];
     for (i, row) in m.iter_mut().enumerate() {
         for (j, x) in row.iter_mut().enumerate() {
-            *x = v[[p, i, j]];
+            // SAFETY: the assertion above puts (p, i, j) inside the view.
+            *x = unsafe { *v.uget([p, i, j]) };
         }
     }
     m
 }
 
+/// Tolerance scale of the symmetry test: the sum of the entries' magnitudes (finite exactly when every
+/// entry is finite and the sum does not overflow).
+#[inline(always)]
+fn abs_sum(m: &Mat3) -> f64 {
+    // Summed as a shallow tree (not one chain of nine dependent additions): this runs four times per point.
+    let row = |r: &Vec3| (r[0].abs() + r[1].abs()) + r[2].abs();
+    (row(&m[0]) + row(&m[1])) + row(&m[2])
+}
+
+/// The test of [`check_stress`] without early exits or messages (the per-point fast path; the detailed
+/// check runs only when this fails, to name what is wrong).
+#[inline(always)]
+fn stress_ok(m: &Mat3) -> bool {
+    let s = abs_sum(m);
+    let tol = 1e-10 * s;
+    s.is_finite()
+        & (m[0][0] >= 0.0)
+        & (m[1][1] >= 0.0)
+        & (m[2][2] >= 0.0)
+        & ((m[0][1] - m[1][0]).abs() <= tol)
+        & ((m[0][2] - m[2][0]).abs() <= tol)
+        & ((m[1][2] - m[2][1]).abs() <= tol)
+}
+
+#[inline(always)]
+fn shape_ok(n: &Mat3) -> bool {
+    stress_ok(n) & ((n[0][0] + n[1][1] + n[2][2] - 1.0).abs() <= 1e-6)
+}
+
 fn check_stress(arg: &str, m: &Mat3, p: usize) -> CoreResult<()> {
-    let scale = m
-        .iter()
-        .flatten()
-        .fold(0.0f64, |a, x| a.max(x.abs()))
-        .max(f64::MIN_POSITIVE);
     for i in 0..3 {
         for j in 0..3 {
             if !m[i][j].is_finite() {
@@ -190,7 +225,7 @@ fn check_stress(arg: &str, m: &Mat3, p: usize) -> CoreResult<()> {
             ));
         }
         for j in 0..i {
-            if (m[i][j] - m[j][i]).abs() > 1e-10 * scale {
+            if (m[i][j] - m[j][i]).abs() > 1e-10 * abs_sum(m) {
                 return Err(CoreError::input(
                     arg,
                     format!("must be symmetric, but entries ({i},{j}) and ({j},{i}) differ at point {p}"),
@@ -245,19 +280,39 @@ enum Rule {
 
 /// All coefficients at point `p`, written into `rec`.
 fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> CoreResult<()> {
+    assert!(rec.len() >= record_len(set));
     let r = read_mat(&inp.reynolds, p);
-    check_stress("reynolds", &r, p)?;
+    if !stress_ok(&r) {
+        check_stress("reynolds", &r, p)?;
+    }
     let m = read_mat(&inp.maxwell, p);
-    check_stress("maxwell", &m, p)?;
+    if !stress_ok(&m) {
+        check_stress("maxwell", &m, p)?;
+    }
     let nu = read_mat(&inp.u_shape, p);
-    check_shape("u_shape", &nu, p)?;
-    let hk = scalar("kinetic_helicity", &inp.kinetic_helicity, p, Rule::Any)?;
-    let hc = scalar("current_helicity", &inp.current_helicity, p, Rule::Any)?;
-    let tau = scalar("tau", &inp.tau, p, Rule::Positive)?;
-    let rho = scalar("rho", &inp.rho, p, Rule::Positive)?;
-    let g = scalar("gravity", &inp.gravity, p, Rule::Any)?;
-    let n2 = scalar("brunt_vaisala2", &inp.brunt_vaisala2, p, Rule::Any)?;
-    let c2 = scalar("sound_speed", &inp.response_speed2, p, Rule::NonNegative)?;
+    // A shape tensor broadcast along the grid (stride 0) was checked once, at point 0.
+    if (p == 0 || inp.u_shape.strides()[0] != 0) && !shape_ok(&nu) {
+        check_shape("u_shape", &nu, p)?;
+    }
+    let (hk, hc) = (inp.kinetic_helicity[p], inp.current_helicity[p]);
+    let (tau, rho, g) = (inp.tau[p], inp.rho[p], inp.gravity[p]);
+    let (n2, c2) = (inp.brunt_vaisala2[p], inp.response_speed2[p]);
+    let scalars_ok = hk.is_finite()
+        & hc.is_finite()
+        & (tau.is_finite() & (tau > 0.0))
+        & (rho.is_finite() & (rho > 0.0))
+        & g.is_finite()
+        & n2.is_finite()
+        & (c2.is_finite() & (c2 >= 0.0));
+    if !scalars_ok {
+        scalar("kinetic_helicity", &inp.kinetic_helicity, p, Rule::Any)?;
+        scalar("current_helicity", &inp.current_helicity, p, Rule::Any)?;
+        scalar("tau", &inp.tau, p, Rule::Positive)?;
+        scalar("rho", &inp.rho, p, Rule::Positive)?;
+        scalar("gravity", &inp.gravity, p, Rule::Any)?;
+        scalar("brunt_vaisala2", &inp.brunt_vaisala2, p, Rule::Any)?;
+        scalar("sound_speed", &inp.response_speed2, p, Rule::NonNegative)?;
+    }
     if g != 0.0 && c2 <= 0.0 {
         return Err(CoreError::input(
             "sound_speed",
@@ -284,13 +339,17 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
     }
     let b2 = m[0][0] + m[1][1] + m[2][2];
     let q = 4.0 * std::f64::consts::PI * rho;
+    let tau_q = tau / q;
+    let tau_hc_q = tau * hc / q;
 
     // W_iml = eps_ijk S_jmlk and the magnetic shape tensor N^b.
     let mut w: Ten3 = [[[0.0; 3]; 3]; 3];
     let nb: Mat3 = match inp.b_shape {
         ShapeSource::Second(v) => {
             let nb = read_mat(&v, p);
-            check_shape("b_shape", &nb, p)?;
+            if (p == 0 || v.strides()[0] != 0) && !shape_ok(&nb) {
+                check_shape("b_shape", &nb, p)?;
+            }
             for (i, wi) in w.iter_mut().enumerate() {
                 for (mm, wim) in wi.iter_mut().enumerate() {
                     for (l, wiml) in wim.iter_mut().enumerate() {
@@ -353,7 +412,7 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
     for i in 0..3 {
         for j in 0..3 {
             alpha_k[i][j] = -tau * hk * nu[i][j];
-            alpha_m[i][j] = tau * hc * nb[i][j] / q;
+            alpha_m[i][j] = tau_hc_q * nb[i][j];
         }
     }
 
@@ -387,43 +446,41 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
     let mut pump_m = [0.0; 3];
     for i in 0..3 {
         pump_k[i] = -0.5 * tau * div_r[i];
-        pump_m[i] = 0.5 * tau * mdiv[i];
+        pump_m[i] = if set.divide_magnetic_div {
+            0.5 * tau_q * mdiv[i]
+        } else {
+            0.5 * tau * mdiv[i]
+        };
     }
     let mut entropy = [0.0; 3];
     entropy[2] = (strat - 1.0) * (pump_k[2] + pump_m[2] + gamma_b[2]);
 
-    // Diffusion: b_iml multiplies d_l B_m.
+    // Diffusion: b_iml multiplies d_l B_m; kinetic and magnetic parts of one entry.
     let sw = set.pressure.diffusion_weight();
-    let mut b_k: Ten3 = [[[0.0; 3]; 3]; 3];
-    let mut b_m: Ten3 = [[[0.0; 3]; 3]; 3];
-    for i in 0..3 {
-        for mm in 0..3 {
-            for l in 0..3 {
-                let mut sk = 0.0;
-                let mut sm = -sw * w[i][mm][l];
-                if i != mm {
-                    // -eps_ijm R_jl and eps_imj M_lj: only j = 3 - i - m contributes.
-                    let j = 3 - i - mm;
-                    sk = -levi(i, j, mm) * r[j][l];
-                    sm += levi(i, mm, j) * m[l][j];
-                }
-                let f = if l == 2 { strat } else { 1.0 };
-                b_k[i][mm][l] = tau * sk * f;
-                b_m[i][mm][l] = tau * sm / q;
-            }
+    let b_entry = |i: usize, mm: usize, l: usize| -> (f64, f64) {
+        let mut sk = 0.0;
+        let mut sm = -sw * w[i][mm][l];
+        if i != mm {
+            // -eps_ijm R_jl and eps_imj M_lj: only j = 3 - i - m contributes.
+            let j = 3 - i - mm;
+            sk = -levi(i, j, mm) * r[j][l];
+            sm += levi(i, mm, j) * m[l][j];
         }
-    }
-    // Horizontally averaged fields: E_i = b_imz d_z B_m, J = (-d_z B_y, d_z B_x, 0), E_i = -eta_ij J_j.
-    let horizontal = |b: &Ten3| {
-        let mut e = [[0.0; 3]; 3];
-        for i in 0..2 {
-            e[i][0] = b[i][1][2];
-            e[i][1] = -b[i][0][2];
-        }
-        e
+        let f = if l == 2 { strat } else { 1.0 };
+        (tau * sk * f, tau_q * sm)
     };
-    let eta_k = horizontal(&b_k);
-    let eta_m = horizontal(&b_m);
+    // Horizontally averaged fields: E_i = b_imz d_z B_m, J = (-d_z B_y, d_z B_x, 0), E_i = -eta_ij J_j;
+    // only these eight entries of b are needed unless the full tensor is asked for.
+    let mut eta_k = [[0.0; 3]; 3];
+    let mut eta_m = [[0.0; 3]; 3];
+    for i in 0..2 {
+        let (k1, m1) = b_entry(i, 1, 2);
+        let (k0, m0) = b_entry(i, 0, 2);
+        eta_k[i][0] = k1;
+        eta_m[i][0] = m1;
+        eta_k[i][1] = -k0;
+        eta_m[i][1] = -m0;
+    }
 
     let mut eta = [[0.0; 3]; 3];
     let mut alpha = [[0.0; 3]; 3];
@@ -440,14 +497,16 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
     let (a, c, d) = (eta[0][0], 0.5 * (eta[0][1] + eta[1][0]), eta[1][1]);
     let min_eig = 0.5 * (a + d) - (0.25 * (a - d) * (a - d) + c * c).sqrt();
 
-    let put_mat = |rec: &mut [f64], off: usize, x: &Mat3| {
+    let (base, extra) = rec.split_at_mut(Layout::BASE);
+    let rec: &mut [f64; Layout::BASE] = base.try_into().expect("record length checked above");
+    let put_mat = |rec: &mut [f64; Layout::BASE], off: usize, x: &Mat3| {
         for i in 0..3 {
             for j in 0..3 {
                 rec[off + 3 * i + j] = x[i][j];
             }
         }
     };
-    let put_vec = |rec: &mut [f64], off: usize, x: &Vec3| {
+    let put_vec = |rec: &mut [f64; Layout::BASE], off: usize, x: &Vec3| {
         rec[off..off + 3].copy_from_slice(x);
     };
     put_mat(rec, Layout::ALPHA, &alpha);
@@ -469,7 +528,8 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
         for i in 0..3 {
             for mm in 0..3 {
                 for l in 0..3 {
-                    rec[Layout::B_TENSOR + 9 * i + 3 * mm + l] = b_k[i][mm][l] + b_m[i][mm][l];
+                    let (bk, bm) = b_entry(i, mm, l);
+                    extra[9 * i + 3 * mm + l] = bk + bm;
                 }
             }
         }
@@ -503,6 +563,32 @@ pub fn coefficients(
     set: &Settings,
     cancel: &Cancel,
 ) -> CoreResult<Array2<f64>> {
+    let n = inp.reynolds.len_of(Axis(0));
+    let mut out = Array2::<f64>::zeros((n, record_len(set)));
+    let (mut negative, mut unstable) = (vec![false; n], vec![false; n]);
+    coefficients_into(
+        inp,
+        set,
+        cancel,
+        out.view_mut(),
+        &mut negative,
+        &mut unstable,
+    )?;
+    Ok(out)
+}
+
+/// [`coefficients`] written into `out`, an (n, [`record_len`]) array in standard (C) order that the caller
+/// allocated (the Python binding hands in NumPy's own buffer, so no second copy of the record is made).
+/// The two flags of the record are also written as booleans into `negative` and `unstable` (length n), so
+/// that a caller need not read them back out of the record.
+pub fn coefficients_into(
+    inp: &PointInputs<'_>,
+    set: &Settings,
+    cancel: &Cancel,
+    mut out: ArrayViewMut2<'_, f64>,
+    negative: &mut [bool],
+    unstable: &mut [bool],
+) -> CoreResult<()> {
     let n = inp.reynolds.len_of(Axis(0));
     check_tail("reynolds", inp.reynolds.shape(), &[3, 3])?;
     check_tail("maxwell", inp.maxwell.shape(), &[3, 3])?;
@@ -543,20 +629,35 @@ pub fn coefficients(
         ));
     }
     let k = record_len(set);
-    let mut out = Array2::<f64>::zeros((n, k));
-    const CHUNK: usize = 8192;
-    if let Some(buf) = out.as_slice_mut() {
-        buf.par_chunks_mut(CHUNK * k)
-            .enumerate()
-            .try_for_each(|(c, block)| {
-                cancel.check()?;
-                for (o, rec) in block.chunks_mut(k).enumerate() {
-                    point(inp, set, c * CHUNK + o, rec)?;
-                }
-                Ok(())
-            })?;
+    if out.dim() != (n, k) {
+        return Err(CoreError::input(
+            "out",
+            format!("must have shape ({n}, {k}), got {:?}", out.dim()),
+        ));
     }
-    Ok(out)
+    let Some(buf) = out.as_slice_mut() else {
+        return Err(CoreError::input("out", "must be C-contiguous"));
+    };
+    if negative.len() != n || unstable.len() != n {
+        return Err(CoreError::input(
+            "negative/unstable",
+            format!("flag buffers must have {n} entries"),
+        ));
+    }
+    const CHUNK: usize = 8192;
+    buf.par_chunks_mut(CHUNK * k)
+        .zip(negative.par_chunks_mut(CHUNK))
+        .zip(unstable.par_chunks_mut(CHUNK))
+        .enumerate()
+        .try_for_each(|(c, ((block, neg), unst))| {
+            cancel.check()?;
+            for (o, rec) in block.chunks_mut(k).enumerate() {
+                point(inp, set, c * CHUNK + o, rec)?;
+                neg[o] = rec[Layout::NEGATIVE] != 0.0;
+                unst[o] = rec[Layout::UNSTABLE] != 0.0;
+            }
+            Ok(())
+        })
 }
 
 #[cfg(test)]
@@ -609,7 +710,11 @@ mod tests {
     }
 
     fn run(o: &Owned, set: &Settings) -> CoreResult<Array2<f64>> {
-        let inp = PointInputs {
+        coefficients(&inputs(o), set, &Cancel::new())
+    }
+
+    fn inputs(o: &Owned) -> PointInputs<'_> {
+        PointInputs {
             reynolds: o.r.view(),
             maxwell: o.m.view(),
             kinetic_helicity: o.hk.view(),
@@ -623,8 +728,7 @@ mod tests {
             response_speed2: o.c2.view(),
             div_reynolds: o.dr.view(),
             magnetic_div: o.dm.view(),
-        };
-        coefficients(&inp, set, &Cancel::new())
+        }
     }
 
     fn settings() -> Settings {
@@ -633,6 +737,7 @@ mod tests {
             field_direction: [0.0, 1.0, 0.0],
             stratification: true,
             with_b_tensor: true,
+            divide_magnetic_div: false,
         }
     }
 
@@ -689,6 +794,61 @@ mod tests {
         set.pressure = PressureTreatment::Unprojected;
         let out = run(&o, &set).unwrap();
         assert_relative_eq!(out[[0, Layout::BUOY + 2]], 2.0 / 3.0, max_relative = 1e-12);
+    }
+
+    #[test]
+    fn kernel_side_division_and_flag_buffers_match_the_record() {
+        // Derived: gamma^M = (tau/2) div M / (4 pi rho) whether the caller or the kernel divides.
+        let mut o = iso(3, 1.0, 1.0);
+        o.dm[[1, 2]] = 2.5;
+        o.n2[2] = -1.0;
+        let q = 4.0 * std::f64::consts::PI * 1e-9;
+        let mut pre = Owned {
+            dm: o.dm.mapv(|x| x / q),
+            ..iso(3, 1.0, 1.0)
+        };
+        pre.n2[2] = -1.0;
+        let a = run(&pre, &settings()).unwrap();
+        let mut set = settings();
+        set.divide_magnetic_div = true;
+        let inp = inputs(&o);
+        let mut b = Array2::<f64>::zeros((3, record_len(&set)));
+        let (mut neg, mut unst) = (vec![true; 3], vec![true; 3]);
+        coefficients_into(
+            &inp,
+            &set,
+            &Cancel::new(),
+            b.view_mut(),
+            &mut neg,
+            &mut unst,
+        )
+        .unwrap();
+        assert_relative_eq!(
+            b[[1, Layout::PUMP_M + 2]],
+            a[[1, Layout::PUMP_M + 2]],
+            max_relative = 1e-14
+        );
+        assert_relative_eq!(
+            b[[1, Layout::PUMP_M + 2]],
+            0.5 * 10.0 * 2.5 / q,
+            max_relative = 1e-14
+        );
+        for p in 0..3 {
+            assert_eq!(neg[p], b[[p, Layout::NEGATIVE]] != 0.0);
+            assert_eq!(unst[p], b[[p, Layout::UNSTABLE]] != 0.0);
+        }
+        assert_eq!(unst, vec![false, false, true]);
+        // A wrong output shape is an input error, not a panic.
+        let mut short = Array2::<f64>::zeros((2, record_len(&set)));
+        let e = coefficients_into(
+            &inp,
+            &set,
+            &Cancel::new(),
+            short.view_mut(),
+            &mut neg,
+            &mut unst,
+        );
+        assert!(e.unwrap_err().to_string().starts_with("out"));
     }
 
     #[test]

@@ -15,5 +15,6 @@ pub mod tensor;
 
 pub use gradient::gradient_along;
 pub use kernel::{
-    coefficients, record_len, Layout, PointInputs, PressureTreatment, Settings, ShapeSource,
+    coefficients, coefficients_into, record_len, Layout, PointInputs, PressureTreatment, Settings,
+    ShapeSource,
 };

@@ -1,9 +1,10 @@
 //! Bindings of the closure stage: the one-point coefficient kernel and the grid derivative.
 
+use ndarray::Axis;
 use numpy::{
     IntoPyArray, PyArray2, PyArrayDyn, PyReadonlyArray1, PyReadonlyArray2, PyReadonlyArray3,
 };
-use numpy::{PyArray1, PyReadonlyArray4, PyReadonlyArray5, PyReadonlyArrayDyn};
+use numpy::{PyArray1, PyArrayMethods, PyReadonlyArray4, PyReadonlyArray5, PyReadonlyArrayDyn};
 use pyo3::prelude::*;
 
 use super::run::{run_long, run_short};
@@ -11,11 +12,19 @@ use crate::closure::response::ResponseSettings;
 use crate::closure::{self, PointInputs, PressureTreatment, Settings, ShapeSource};
 use crate::error::CoreError;
 
-/// All one-point closure coefficients as an (n, record) array; see `closure::kernel::Layout`.
+/// The record and the two per-point flags (negative diffusion, convectively unstable).
+type CoefficientArrays<'py> = (
+    Bound<'py, PyArray2<f64>>,
+    Bound<'py, PyArray1<bool>>,
+    Bound<'py, PyArray1<bool>>,
+);
+
+/// All one-point closure coefficients as an (n, record) array (see `closure::kernel::Layout`) and the two
+/// flags as boolean arrays of length n.
 #[pyfunction]
 #[pyo3(signature = (reynolds, maxwell, kinetic_helicity, current_helicity, u_shape, b_shape, b_shape4,
     tau, rho, gravity, brunt_vaisala2, response_speed2, div_reynolds, magnetic_div, *, pressure,
-    field_direction, stratification, with_b_tensor))]
+    field_direction, stratification, with_b_tensor, divide_magnetic_div=false))]
 #[allow(clippy::too_many_arguments)]
 pub fn _closure_coefficients<'py>(
     py: Python<'py>,
@@ -37,7 +46,8 @@ pub fn _closure_coefficients<'py>(
     field_direction: (f64, f64, f64),
     stratification: bool,
     with_b_tensor: bool,
-) -> PyResult<Bound<'py, PyArray2<f64>>> {
+    divide_magnetic_div: bool,
+) -> PyResult<CoefficientArrays<'py>> {
     let pressure = match pressure {
         "projected" => PressureTreatment::Projected,
         "partial" => PressureTreatment::Partial,
@@ -77,11 +87,24 @@ pub fn _closure_coefficients<'py>(
         field_direction: [field_direction.0, field_direction.1, field_direction.2],
         stratification,
         with_b_tensor,
+        divide_magnetic_div,
     };
-    let out = run_long(py, |cancel| {
-        closure::coefficients(&inputs, &settings, cancel)
-    })?;
-    Ok(out.into_pyarray(py))
+    // The record is allocated by NumPy (its allocator asks the kernel for huge pages on large buffers,
+    // which halves the cost of first touching the pages) and filled in place with the GIL released.
+    let n = inputs.reynolds.len_of(Axis(0));
+    let out = PyArray2::<f64>::zeros(py, [n, closure::record_len(&settings)], false);
+    let negative = PyArray1::<bool>::zeros(py, n, false);
+    let unstable = PyArray1::<bool>::zeros(py, n, false);
+    {
+        let mut guard = out.readwrite();
+        let (mut neg, mut unst) = (negative.readwrite(), unstable.readwrite());
+        let view = guard.as_array_mut();
+        let (neg, unst) = (neg.as_slice_mut()?, unst.as_slice_mut()?);
+        run_long(py, |cancel| {
+            closure::coefficients_into(&inputs, &settings, cancel, view, neg, unst)
+        })?;
+    }
+    Ok((out, negative, unstable))
 }
 
 /// Second-order derivative of `values` along `axis` on the non-uniform coordinate `coord`.
