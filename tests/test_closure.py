@@ -640,3 +640,44 @@ def test_grid_derivative_matches_numpy_gradient(n, extra, axis_last, seed):
     np.testing.assert_allclose(got, ref, rtol=1e-10, atol=1e-10 * np.abs(ref).max())
     view = np.asfortranarray(f)[..., ::1]
     np.testing.assert_allclose(_core._closure_gradient(view, x, axis), ref, rtol=1e-10, atol=1e-10 * np.abs(ref).max())
+
+
+def test_memory_layout_does_not_change_the_numbers():
+    # Derived: the kernel reads C-ordered matrices at constant offsets and anything else through its strides;
+    # Fortran order, a strided view and a broadcast shape tensor must give bit-identical coefficients.
+    rng = np.random.default_rng(11)
+    n = 40
+    a = rng.normal(size=(2 * n, 3, 3))
+    r = np.einsum("nij,nkj->nik", a, a)
+    shape = np.abs(rng.normal(size=(2 * n, 3))) + 0.1
+    nb = np.zeros((2 * n, 3, 3))
+    nb[:, [0, 1, 2], [0, 1, 2]] = shape / shape.sum(axis=1, keepdims=True)
+    kw = dict(kinetic_helicity=rng.normal(size=n), current_helicity=rng.normal(size=n), tau=1.5, rho=2.0,
+              gravity=rng.normal(size=n), sound_speed=1.0, brunt_vaisala2=0.3,
+              div_reynolds=rng.normal(size=(n, 3)), div_maxwell=rng.normal(size=(n, 3)))
+    ref = cl.emf_coefficients(cl.TurbulenceState(reynolds=r[:n].copy(), maxwell=0.5 * r[n:].copy(),
+                                                 b_shape=nb[:n].copy(), **kw))
+    every_other = np.zeros((2 * n, 3, 3))
+    every_other[::2] = 0.5 * r[n:]
+    variants = [
+        # Fortran order (read through the strides).
+        dict(reynolds=np.asfortranarray(r[:n]), maxwell=np.asfortranarray(0.5 * r[n:]), b_shape=nb[:n]),
+        # every second matrix of a larger array (constant offsets, a longer step); transposed views of the
+        # symmetric tensors (same numbers, other strides).
+        dict(reynolds=np.swapaxes(r[:n], 1, 2), maxwell=every_other[::2], b_shape=np.swapaxes(nb[:n], 1, 2)),
+    ]
+    assert not variants[0]["reynolds"].flags.c_contiguous and not variants[1]["maxwell"].flags.c_contiguous
+    for v in variants:
+        got = cl.emf_coefficients(cl.TurbulenceState(**v, **kw))
+        for name in ("alpha", "gamma", "buoyancy", "eta", "eta_magnetic", "entropy_drift"):
+            np.testing.assert_array_equal(getattr(got, name), getattr(ref, name), err_msg=name)
+        np.testing.assert_array_equal(got.negative_diffusion, ref.negative_diffusion)
+    # A broadcast shape tensor is checked once; a bad one is still rejected, and a bad point of a full one
+    # is found wherever it sits.
+    bad = np.broadcast_to(np.diag([0.5, 0.3, 0.3]), (n, 3, 3))
+    with pytest.raises(InputError, match="u_shape"):
+        cl.emf_coefficients(cl.TurbulenceState(reynolds=r[:n], u_shape=bad, tau=1.0, rho=1.0))
+    nb_bad = nb[:n].copy()
+    nb_bad[n - 3, 0, 0] += 0.2
+    with pytest.raises(InputError, match=f"b_shape: a shape tensor has trace 1, found .* at point {n - 3}"):
+        cl.emf_coefficients(cl.TurbulenceState(reynolds=r[:n], b_shape=nb_bad, tau=1.0, rho=1.0))

@@ -164,6 +164,17 @@ pub fn record_len(settings: &Settings) -> usize {
 #[inline(always)]
 fn read_mat(v: &ArrayView3<'_, f64>, p: usize) -> Mat3 {
     assert!(p < v.len_of(Axis(0)) && v.shape()[1] == 3 && v.shape()[2] == 3);
+    let st = v.strides();
+    if st[1] == 3 && st[2] == 1 {
+        // Each matrix is nine contiguous numbers (C order): read them at constant offsets.
+        // SAFETY: the assertion above and the strides put elements p*st[0] .. p*st[0] + 8 inside the view.
+        let row = unsafe { std::slice::from_raw_parts(v.as_ptr().offset(p as isize * st[0]), 9) };
+        return [
+            [row[0], row[1], row[2]],
+            [row[3], row[4], row[5]],
+            [row[6], row[7], row[8]],
+        ];
+    }
     let mut m = [[0.0; 3]; 3];
     for (i, row) in m.iter_mut().enumerate() {
         for (j, x) in row.iter_mut().enumerate() {
@@ -187,9 +198,13 @@ fn abs_sum(m: &Mat3) -> f64 {
 /// check runs only when this fails, to name what is wrong).
 #[inline(always)]
 fn stress_ok(m: &Mat3) -> bool {
-    let s = abs_sum(m);
-    let tol = 1e-10 * s;
-    s.is_finite()
+    // The trace bounds the tolerance scale of `check_stress` from below (diagonal entries are >= 0 here),
+    // so passing this test implies passing that one; the plain sum is finite exactly when every entry is
+    // (or it overflows, and the detailed check then decides).
+    let trace = m[0][0] + m[1][1] + m[2][2];
+    let all = (trace + (m[0][1] + m[1][0])) + ((m[0][2] + m[2][0]) + (m[1][2] + m[2][1]));
+    let tol = 1e-10 * trace;
+    all.is_finite()
         & (m[0][0] >= 0.0)
         & (m[1][1] >= 0.0)
         & (m[2][2] >= 0.0)
@@ -344,23 +359,14 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
 
     // W_iml = eps_ijk S_jmlk and the magnetic shape tensor N^b.
     let mut w: Ten3 = [[[0.0; 3]; 3]; 3];
+    let second = matches!(inp.b_shape, ShapeSource::Second(_));
     let nb: Mat3 = match inp.b_shape {
         ShapeSource::Second(v) => {
             let nb = read_mat(&v, p);
             if (p == 0 || v.strides()[0] != 0) && !shape_ok(&nb) {
                 check_shape("b_shape", &nb, p)?;
             }
-            for (i, wi) in w.iter_mut().enumerate() {
-                for (mm, wim) in wi.iter_mut().enumerate() {
-                    for (l, wiml) in wim.iter_mut().enumerate() {
-                        // eps_ijl N_jm: only j = 3 - i - l contributes.
-                        if i != l {
-                            let j = 3 - i - l;
-                            *wiml = 0.5 * b2 * levi(i, j, l) * nb[j][mm];
-                        }
-                    }
-                }
-            }
+            // W is built entry by entry where it is used (`w_of` below).
             nb
         }
         ShapeSource::Fourth(v) => {
@@ -400,6 +406,19 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
         }
     };
 
+    let half_b2 = 0.5 * b2;
+    let w_of = |i: usize, mm: usize, l: usize| -> f64 {
+        if !second {
+            w[i][mm][l]
+        } else if i == l {
+            0.0
+        } else {
+            // eps_ijl N_jm: only j = 3 - i - l contributes.
+            let j = 3 - i - l;
+            half_b2 * levi(i, j, l) * nb[j][mm]
+        }
+    };
+
     let strat = if set.stratification && n2 > 0.0 {
         1.0 / (1.0 + n2 * tau * tau)
     } else {
@@ -423,7 +442,7 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
     if cb != 0.0 {
         for (i, row) in ab.iter_mut().enumerate() {
             for (l, x) in row.iter_mut().enumerate() {
-                let mut s = -pw * w[i][2][l];
+                let mut s = -pw * w_of(i, 2, l);
                 if i != 2 {
                     let k = 1 - i; // eps_izk M_lk with k = 3 - i - 2
                     s += levi(i, 2, k) * m[l][k];
@@ -459,7 +478,7 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
     let sw = set.pressure.diffusion_weight();
     let b_entry = |i: usize, mm: usize, l: usize| -> (f64, f64) {
         let mut sk = 0.0;
-        let mut sm = -sw * w[i][mm][l];
+        let mut sm = -sw * w_of(i, mm, l);
         if i != mm {
             // -eps_ijm R_jl and eps_imj M_lj: only j = 3 - i - m contributes.
             let j = 3 - i - mm;
