@@ -23,6 +23,7 @@ use rustfft::FftPlanner;
 
 use super::tensor::{levi, Mat3, Ten3};
 use crate::error::{CoreError, CoreResult};
+use crate::numerics::fft::wavenumbers_odd;
 use crate::numerics::Cancel;
 
 /// Box-averaged response coefficients, each `a` coefficient of `B_l`, each `b` of `d_l B_m` as `[i][m][l]`.
@@ -80,24 +81,6 @@ fn fft3(data: &mut Array3<Complex64>, inverse: bool) {
         let norm = 1.0 / data.len() as f64;
         data.mapv_inplace(|x| x * norm);
     }
-}
-
-fn wavenumbers(n: usize, d: f64) -> Vec<f64> {
-    let l = n as f64 * d;
-    (0..n)
-        .map(|i| {
-            if n % 2 == 0 && i == n / 2 {
-                0.0
-            } else {
-                let m = if i <= n / 2 {
-                    i as f64
-                } else {
-                    i as f64 - n as f64
-                };
-                2.0 * std::f64::consts::PI * m / l
-            }
-        })
-        .collect()
 }
 
 /// Box average of the product of two real fields.
@@ -162,7 +145,7 @@ pub fn field_response(
     }
     let shape = (u.shape()[1], u.shape()[2], u.shape()[3]);
     let k: Vec<Vec<f64>> = (0..3)
-        .map(|a| wavenumbers([shape.0, shape.1, shape.2][a], set.spacing[a]))
+        .map(|a| wavenumbers_odd([shape.0, shape.1, shape.2][a], set.spacing[a], false))
         .collect();
     let kvec = |i: usize, j: usize, l: usize| [k[0][i], k[1][j], k[2][l]];
 
