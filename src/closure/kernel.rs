@@ -218,6 +218,8 @@ fn shape_ok(n: &Mat3) -> bool {
     stress_ok(n) & ((n[0][0] + n[1][1] + n[2][2] - 1.0).abs() <= 1e-6)
 }
 
+#[cold]
+#[inline(never)]
 fn check_stress(arg: &str, m: &Mat3, p: usize) -> CoreResult<()> {
     for i in 0..3 {
         for j in 0..3 {
@@ -251,6 +253,8 @@ fn check_stress(arg: &str, m: &Mat3, p: usize) -> CoreResult<()> {
     Ok(())
 }
 
+#[cold]
+#[inline(never)]
 fn check_shape(arg: &str, n: &Mat3, p: usize) -> CoreResult<()> {
     check_stress(arg, n, p)?;
     let tr = n[0][0] + n[1][1] + n[2][2];
@@ -263,6 +267,8 @@ fn check_shape(arg: &str, n: &Mat3, p: usize) -> CoreResult<()> {
     Ok(())
 }
 
+#[cold]
+#[inline(never)]
 fn scalar(arg: &str, v: &ArrayView1<'_, f64>, p: usize, rule: Rule) -> CoreResult<f64> {
     let x = v[p];
     let ok = x.is_finite()
@@ -284,6 +290,40 @@ fn scalar(arg: &str, v: &ArrayView1<'_, f64>, p: usize, rule: Rule) -> CoreResul
             format!("must be {want}, found {x} at point {p}"),
         ))
     }
+}
+
+/// Name what is wrong with the scalar and vector inputs at point `p` (the slow path of [`point`]).
+#[cold]
+#[inline(never)]
+fn explain_scalars(inp: &PointInputs<'_>, p: usize) -> CoreResult<()> {
+    scalar("kinetic_helicity", &inp.kinetic_helicity, p, Rule::Any)?;
+    scalar("current_helicity", &inp.current_helicity, p, Rule::Any)?;
+    scalar("tau", &inp.tau, p, Rule::Positive)?;
+    scalar("rho", &inp.rho, p, Rule::Positive)?;
+    let g = scalar("gravity", &inp.gravity, p, Rule::Any)?;
+    scalar("brunt_vaisala2", &inp.brunt_vaisala2, p, Rule::Any)?;
+    let c2 = scalar("sound_speed", &inp.response_speed2, p, Rule::NonNegative)?;
+    if g != 0.0 && c2 <= 0.0 {
+        return Err(CoreError::input(
+            "sound_speed",
+            format!("must be given and positive where gravity is non-zero (point {p})"),
+        ));
+    }
+    for i in 0..3 {
+        if !inp.div_reynolds[[p, i]].is_finite() {
+            return Err(CoreError::input(
+                "div_reynolds",
+                format!("must be finite at point {p}"),
+            ));
+        }
+        if !inp.magnetic_div[[p, i]].is_finite() {
+            return Err(CoreError::input(
+                "div_maxwell",
+                format!("must be finite at point {p}"),
+            ));
+        }
+    }
+    Ok(())
 }
 
 #[derive(Clone, Copy)]
@@ -319,38 +359,16 @@ fn point(inp: &PointInputs<'_>, set: &Settings, p: usize, rec: &mut [f64]) -> Co
         & g.is_finite()
         & n2.is_finite()
         & (c2.is_finite() & (c2 >= 0.0));
-    if !scalars_ok {
-        scalar("kinetic_helicity", &inp.kinetic_helicity, p, Rule::Any)?;
-        scalar("current_helicity", &inp.current_helicity, p, Rule::Any)?;
-        scalar("tau", &inp.tau, p, Rule::Positive)?;
-        scalar("rho", &inp.rho, p, Rule::Positive)?;
-        scalar("gravity", &inp.gravity, p, Rule::Any)?;
-        scalar("brunt_vaisala2", &inp.brunt_vaisala2, p, Rule::Any)?;
-        scalar("sound_speed", &inp.response_speed2, p, Rule::NonNegative)?;
-    }
-    if g != 0.0 && c2 <= 0.0 {
-        return Err(CoreError::input(
-            "sound_speed",
-            format!("must be given and positive where gravity is non-zero (point {p})"),
-        ));
-    }
     let mut div_r = [0.0; 3];
     let mut mdiv = [0.0; 3];
+    let mut divs_ok = true;
     for i in 0..3 {
         div_r[i] = inp.div_reynolds[[p, i]];
         mdiv[i] = inp.magnetic_div[[p, i]];
-        if !div_r[i].is_finite() {
-            return Err(CoreError::input(
-                "div_reynolds",
-                format!("must be finite at point {p}"),
-            ));
-        }
-        if !mdiv[i].is_finite() {
-            return Err(CoreError::input(
-                "div_maxwell",
-                format!("must be finite at point {p}"),
-            ));
-        }
+        divs_ok &= div_r[i].is_finite() & mdiv[i].is_finite();
+    }
+    if !(scalars_ok & divs_ok & !(g != 0.0 && c2 <= 0.0)) {
+        explain_scalars(inp, p)?;
     }
     let b2 = m[0][0] + m[1][1] + m[2][2];
     let q = 4.0 * std::f64::consts::PI * rho;
