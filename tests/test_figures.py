@@ -53,27 +53,26 @@ def _colour_mask(img: np.ndarray, colour: str, tol: float = 0.08) -> np.ndarray:
     return np.all(np.abs(img - np.array(to_rgb(colour))) < tol, axis=-1)
 
 
-@pytest.fixture(scope="module")
-def bending(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict[str, Any]]:
+def _executed(factory: pytest.TempPathFactory, tag: str, notebook: str) -> tuple[Path, dict[str, Any]]:
+    """Run ``notebook`` in a fresh folder; return its figures folder and its namespace."""
     mp = pytest.MonkeyPatch()
-    work = tmp_path_factory.mktemp("nb02")
+    work = factory.mktemp(tag)
     try:
-        ns = _run_notebook("02_bending_and_flux_speeds.ipynb", work, mp)
+        ns = _run_notebook(notebook, work, mp)
     finally:
         mp.undo()
-    yield work / "figures", ns
+    return work / "figures", ns
+
+
+@pytest.fixture(scope="module")
+def bending(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict[str, Any]]:
+    yield _executed(tmp_path_factory, "nb02", "02_bending_and_flux_speeds.ipynb")
     plt.close("all")
 
 
 @pytest.fixture(scope="module")
 def coefficients(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict[str, Any]]:
-    mp = pytest.MonkeyPatch()
-    work = tmp_path_factory.mktemp("nb01")
-    try:
-        ns = _run_notebook("01_snapshots_to_coefficients.ipynb", work, mp)
-    finally:
-        mp.undo()
-    yield work / "figures", ns
+    yield _executed(tmp_path_factory, "nb01", "01_snapshots_to_coefficients.ipynb")
     plt.close("all")
 
 
@@ -176,13 +175,7 @@ def test_pumping_parts_have_opposite_signs_in_rendered_profiles(coefficients: tu
 
 @pytest.fixture(scope="module")
 def population(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict[str, Any]]:
-    mp = pytest.MonkeyPatch()
-    work = tmp_path_factory.mktemp("nb03")
-    try:
-        ns = _run_notebook("03_population_launch_map.ipynb", work, mp)
-    finally:
-        mp.undo()
-    yield work / "figures", ns
+    yield _executed(tmp_path_factory, "nb03", "03_population_launch_map.ipynb")
     plt.close("all")
 
 

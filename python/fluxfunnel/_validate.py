@@ -60,6 +60,18 @@ def as_float(name: str, value: Any, *, unit: str | None = None, dtype: Any = np.
     return np.asarray(arr, dtype=dtype)
 
 
+def as_scalar(name: str, value: Any, unit: str | None = None, *, positive: bool = False) -> float:
+    """Return ``value`` as a finite Python float (positive with ``positive=True``), naming ``name`` on failure."""
+    arr = as_float(name, value, unit=unit)
+    if arr.ndim != 0:
+        raise InputError(f"{name}: must be a scalar, got shape {arr.shape}")
+    if positive:
+        check_positive(name, arr)
+    else:
+        check_finite(name, arr)
+    return float(arr)
+
+
 def check_finite(name: str, arr: NDArray[Any]) -> None:
     """Raise `InputError` if ``arr`` holds NaN or infinity."""
     bad = ~np.isfinite(arr)

@@ -20,7 +20,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ._errors import InputError
-from ._validate import as_float, check_finite, check_positive
+from ._validate import as_float, as_scalar, check_positive
 
 __all__ = ["roberts_flow", "abc_flow"]
 
@@ -42,13 +42,6 @@ def _grid(shape: Any, spacing: Any) -> tuple[NDArray[np.float64], NDArray[np.flo
     x, y, z = np.meshgrid(*axes, indexing="ij")
     return x, y, z
 
-
-def _scalar(name: str, value: Any, unit: str | None) -> float:
-    arr = as_float(name, value, unit=unit)
-    if arr.ndim != 0:
-        raise InputError(f"{name}: must be a scalar, got shape {arr.shape}")
-    check_finite(name, arr)
-    return float(arr)
 
 
 def roberts_flow(shape: Any, *, u0: Any, k: Any, spacing: Any) -> NDArray[np.float64]:
@@ -90,8 +83,8 @@ def roberts_flow(shape: Any, *, u0: Any, k: Any, spacing: Any) -> NDArray[np.flo
     >>> round(float(np.mean(np.sum(u**2, axis=0))), 12)
     4.0
     """
-    amp = _scalar("u0", u0, "cm / s")
-    kk = _scalar("k", k, "1 / cm")
+    amp = as_scalar("u0", u0, "cm / s")
+    kk = as_scalar("k", k, "1 / cm")
     check_positive("k", np.asarray(kk))
     x, y, _ = _grid(shape, spacing)
     sx, cx, sy, cy = np.sin(kk * x), np.cos(kk * x), np.sin(kk * y), np.cos(kk * y)
@@ -136,10 +129,10 @@ def abc_flow(shape: Any, *, a: Any, b: Any, c: Any, k: Any, spacing: Any) -> NDA
     >>> round(float(np.mean(np.sum(u**2, axis=0))), 12)
     3.0
     """
-    aa = _scalar("a", a, "cm / s")
-    bb = _scalar("b", b, "cm / s")
-    cc = _scalar("c", c, "cm / s")
-    kk = _scalar("k", k, "1 / cm")
+    aa = as_scalar("a", a, "cm / s")
+    bb = as_scalar("b", b, "cm / s")
+    cc = as_scalar("c", c, "cm / s")
+    kk = as_scalar("k", k, "1 / cm")
     check_positive("k", np.asarray(kk))
     x, y, z = _grid(shape, spacing)
     return np.stack(

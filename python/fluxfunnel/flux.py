@@ -30,7 +30,7 @@ from tqdm.auto import tqdm
 from . import _core
 from . import constants as const
 from ._errors import InputError
-from ._validate import as_float, broadcast, check_finite, check_increasing, check_positive, scalar_or_array
+from ._validate import as_float, as_scalar, broadcast, check_finite, check_increasing, check_positive, scalar_or_array
 
 __all__ = [
     "ring_kernel",
@@ -68,13 +68,6 @@ def _on_grid(name: str, value: ArrayLike, r: Float, unit: str | None) -> Float:
         raise InputError(f"{name}: shape {arr.shape} does not broadcast to the grid shape {r.shape}") from exc
     return np.ascontiguousarray(out, dtype=np.float64)
 
-
-def _scalar(name: str, value: Any, unit: str | None) -> float:
-    arr = as_float(name, value, unit=unit)
-    if arr.ndim != 0:
-        raise InputError(f"{name}: must be a scalar, got shape {arr.shape}")
-    check_finite(name, arr)
-    return float(arr)
 
 
 def ring_kernel(r: ArrayLike, r_src: ArrayLike) -> Any:
@@ -428,8 +421,8 @@ class FluxModel:
         self.radial_diffusivity = _on_grid("radial_diffusivity", eta, rr, "cm2 / s")
         if np.any(self.radial_diffusivity < 0):
             raise InputError("radial_diffusivity: must be non-negative")
-        b_ext = _scalar("external_field", external_field, "G")
-        mu = _scalar("dipole_moment", dipole_moment, "G cm3")
+        b_ext = as_scalar("external_field", external_field, "G")
+        mu = as_scalar("dipole_moment", dipole_moment, "G cm3")
         if inner_edge not in ("same", "closed"):
             raise InputError(f"inner_edge: must be 'same' or 'closed', got {inner_edge!r}")
         if outer_edge not in ("anchored", "same"):
@@ -505,7 +498,7 @@ class FluxModel:
         FluxSolution
             Profiles at the saved times. Ctrl-C stops between steps (KeyboardInterrupt).
         """
-        t_end_f = _scalar("t_end", t_end, "s")
+        t_end_f = as_scalar("t_end", t_end, "s")
         if not t_end_f > 0:
             raise InputError(f"t_end: must be positive, got {t_end_f}")
         if method not in ("bdf2", "cn", "be"):
@@ -971,7 +964,7 @@ def transport_speeds(
     if not isinstance(template, TurbulenceTemplate):
         raise InputError(f"template: must be a TurbulenceTemplate, got {type(template).__name__}")
     rr = _grid(r)
-    p_m = template.pm if pm is None else _scalar("pm", pm, None)
+    p_m = template.pm if pm is None else as_scalar("pm", pm, None)
     if not p_m > 0:
         raise InputError(f"pm: must be positive, got {p_m}")
     if int(nz) != nz or nz < 8:
@@ -1269,8 +1262,8 @@ def template_from_profiles(
 
     from .closure import TurbulenceState, emf_coefficients
 
-    c_s = _scalar("sound_speed", sound_speed, "cm / s")
-    om = _scalar("omega", omega, "1 / s")
+    c_s = as_scalar("sound_speed", sound_speed, "cm / s")
+    om = as_scalar("omega", omega, "1 / s")
     if not (c_s > 0 and om > 0):
         raise InputError("sound_speed, omega: must be positive")
     z = np.asarray(profiles.z, dtype=float)

@@ -35,7 +35,7 @@ from numpy.typing import NDArray
 
 from . import _core
 from ._errors import InputError
-from ._validate import as_float, check_finite, check_increasing, check_positive
+from ._validate import as_float, as_scalar, check_finite, check_increasing, check_positive
 
 __all__ = [
     "DegenerateFitWarning",
@@ -561,9 +561,9 @@ def test_field(
     if h.shape != (3,):
         raise InputError(f"spacing: must be a number or three numbers (dx, dy, dz), got shape {h.shape}")
     check_positive("spacing", h)
-    eta_v = _positive_scalar("eta", eta, "cm2 / s")
-    k_v = _positive_scalar("k_test", k_test, "1 / cm")
-    t_v = _positive_scalar("t_end", t_end, "s")
+    eta_v = as_scalar("eta", eta, "cm2 / s", positive=True)
+    k_v = as_scalar("k_test", k_test, "1 / cm", positive=True)
+    t_v = as_scalar("t_end", t_end, "s", positive=True)
     records = _count("n_records", n_records, 1)
     umax = float(np.max(np.sqrt(np.sum(u_first**2, axis=0))))
     if dt is None:
@@ -573,7 +573,7 @@ def test_field(
             raise InputError("u: the flow is zero everywhere; give dt explicitly or a non-zero flow")
         dt_v = cfl * float(np.min(h)) / umax
     else:
-        dt_v = _positive_scalar("dt", dt, "s")
+        dt_v = as_scalar("dt", dt, "s", positive=True)
     n_steps = max(1, math.ceil(t_v / dt_v - 1e-9))
     dt_v = t_v / n_steps
     if average_from is not None and not (0.0 <= float(average_from) < t_v):
@@ -635,14 +635,6 @@ def test_field(
         n_steps=n_steps,
         mean_flow_rms=mean_flow_rms,
     )
-
-
-def _positive_scalar(name: str, value: Any, unit: str) -> float:
-    arr = as_float(name, value, unit=unit)
-    if arr.ndim != 0:
-        raise InputError(f"{name}: must be a scalar, got shape {arr.shape}")
-    check_positive(name, arr)
-    return float(arr)
 
 
 @dataclass(frozen=True, repr=False)

@@ -361,6 +361,17 @@ class CompactObject:
         return float(arr) if arr.ndim == 0 else arr
 
     @classmethod
+    def _star(cls, kind: str, mass: Any, radius: Any, surface_field: Any) -> CompactObject:
+        """Describe a non-rotating object with a surface and a dipole (neutron star, protostar)."""
+        return cls(
+            kind,
+            cls._checked("mass", mass, "g", positive=True),
+            0.0,
+            cls._checked("radius", radius, "cm"),
+            cls._checked("surface_field", surface_field, "G"),
+        )
+
+    @classmethod
     def black_hole(cls, mass: Any, spin: Any = 0.0) -> CompactObject:
         """Describe a Kerr black hole; its disk reaches the ISCO.
 
@@ -403,13 +414,7 @@ class CompactObject:
         >>> CompactObject.neutron_star(1.4 * k.M_SUN).inner_edge(1e16).set_by
         'magnetosphere'
         """
-        return cls(
-            "neutron star",
-            cls._checked("mass", mass, "g", positive=True),
-            0.0,
-            cls._checked("radius", radius, "cm"),
-            cls._checked("surface_field", surface_field, "G"),
-        )
+        return cls._star("neutron star", mass, radius, surface_field)
 
     @classmethod
     def white_dwarf(cls, mass: Any, radius: Any = None, surface_field: Any = WHITE_DWARF_FIELD) -> CompactObject:
@@ -457,13 +462,7 @@ class CompactObject:
         >>> star.inner_edge(1e-8 * k.M_SUN / k.YEAR).set_by
         'magnetosphere'
         """
-        return cls(
-            "protostar",
-            cls._checked("mass", mass, "g", positive=True),
-            0.0,
-            cls._checked("radius", radius, "cm"),
-            cls._checked("surface_field", surface_field, "G"),
-        )
+        return cls._star("protostar", mass, radius, surface_field)
 
     @property
     def magnetic_moment(self) -> Any:

@@ -44,6 +44,18 @@ from ._validate import as_float, check_finite, check_positive
 __all__ = ["solenoidal_field", "expected_statistics", "SyntheticStatistics"]
 
 
+def _aspect_and_helicity(aspect: Any, helicity: Any) -> tuple[NDArray[np.float64], float]:
+    """Check the eddy aspect ratios (three positive numbers) and the helicity fraction (in [-1, 1])."""
+    a = as_float("aspect", aspect)
+    if a.shape != (3,):
+        raise InputError(f"aspect: must be three numbers (a_x, a_y, a_z), got shape {a.shape}")
+    check_positive("aspect", a)
+    sigma = float(as_float("helicity", helicity))
+    if not -1.0 <= sigma <= 1.0:
+        raise InputError(f"helicity: must lie in [-1, 1], got {sigma}")
+    return a, sigma
+
+
 def _spectrum(name: str | Callable[[NDArray[np.float64]], Any], kappa: NDArray[np.float64], k_peak: float) -> Any:
     x = kappa / k_peak
     if callable(name):
@@ -125,13 +137,7 @@ def solenoidal_field(
     if len(n) != 3 or min(n) < 4 or any(int(s) != s for s in shape):
         raise InputError(f"shape: must be three integers >= 4, got {shape!r}")
     d = _spacing3(spacing)
-    a = as_float("aspect", aspect)
-    if a.shape != (3,):
-        raise InputError(f"aspect: must be three numbers (a_x, a_y, a_z), got shape {a.shape}")
-    check_positive("aspect", a)
-    sigma = float(as_float("helicity", helicity))
-    if not -1.0 <= sigma <= 1.0:
-        raise InputError(f"helicity: must lie in [-1, 1], got {sigma}")
+    a, sigma = _aspect_and_helicity(aspect, helicity)
     rms_v = as_float("rms", rms)
     check_positive("rms", rms_v)
     if np.dtype(dtype) not in (np.float32, np.float64):
@@ -257,13 +263,7 @@ def expected_statistics(aspect: Any = (1.0, 1.0, 1.0), helicity: float = 0.0) ->
     """
     from scipy.integrate import quad
 
-    a = as_float("aspect", aspect)
-    if a.shape != (3,):
-        raise InputError(f"aspect: must be three numbers (a_x, a_y, a_z), got shape {a.shape}")
-    check_positive("aspect", a)
-    sigma = float(as_float("helicity", helicity))
-    if not -1.0 <= sigma <= 1.0:
-        raise InputError(f"helicity: must lie in [-1, 1], got {sigma}")
+    a, sigma = _aspect_and_helicity(aspect, helicity)
     lam = 1.0 / (a / a.max()) ** 2
     diag = np.empty(3)
     for j in range(3):

@@ -25,7 +25,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from . import _core
 from ._errors import InputError
-from ._validate import as_float, check_finite, check_increasing, check_positive
+from ._validate import as_float, as_scalar, check_finite, check_increasing, check_positive
 
 __all__ = [
     "BendResult",
@@ -488,13 +488,6 @@ class ColumnHistory:
         return ax
 
 
-def _scalar(name: str, value: Any, unit: str | None) -> float:
-    arr = as_float(name, value, unit=unit)
-    if arr.ndim != 0:
-        raise InputError(f"{name}: must be a scalar, got shape {arr.shape}")
-    check_finite(name, arr)
-    return float(arr)
-
 
 def _column_profile(name: str, value: Any, nz: int, unit: str) -> FloatArray:
     arr = as_float(name, value, unit=unit)
@@ -612,8 +605,8 @@ class ColumnModel:
             raise InputError(f"boundary: must be 'vertical_field' or 'periodic', got {boundary!r}")
         self.z = zz
         self.boundary = boundary
-        self.shear = _scalar("shear", shear, None)
-        self.omega = _scalar("omega", omega, "1 / s")
+        self.shear = as_scalar("shear", shear, None)
+        self.omega = as_scalar("omega", omega, "1 / s")
         self.alpha = _column_profile("alpha", alpha, nz, "cm / s")
         self.gamma = _column_profile("gamma", gamma, nz, "cm / s")
         self.eta = _column_profile("eta", eta, nz, "cm2 / s")
