@@ -361,7 +361,7 @@ class CompactObject:
         return float(arr) if arr.ndim == 0 else arr
 
     @classmethod
-    def _star(cls, kind: str, mass: Any, radius: Any, surface_field: Any) -> CompactObject:
+    def _star(cls, kind: Kind, mass: Any, radius: Any, surface_field: Any) -> CompactObject:
         """Describe a non-rotating object with a surface and a dipole (neutron star, protostar)."""
         return cls(
             kind,
