@@ -15,12 +15,18 @@ from __future__ import annotations
 import warnings
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from . import constants as k
 from .disk import AlphaDisk, AssumptionWarning
 from .objects import CompactObject, eddington_accretion_rate
+
+if TYPE_CHECKING:
+    from .closure import ClosureCoefficients
+    from .flux import TurbulenceTemplate
+    from .stats import TurbulenceProfiles
 
 __all__ = ["run", "SYSTEMS", "DemoSystem", "RADIUS_FACTORS", "ALPHA", "ENVIRONMENT_FIELDS", "demo_box_template"]
 
@@ -78,7 +84,7 @@ ENVIRONMENT_FIELDS = {"Quillon X-3": 10.0, "Marrowby CV": 1.0, "Tarnwell A": 1.0
 """Invented poloidal field supplied far out [G]: from the companion's surface field, diluted (black hole and
 white dwarf), or from the parent cloud, compressed (young star). Free parameters of the demo."""
 
-BOX = {"shape": (32, 32, 32), "height": 1.5, "u_rms": 0.35, "turbulent_beta": 10.0, "tau_omega": 0.7}
+BOX: dict[str, Any] = {"shape": (32, 32, 32), "height": 1.5, "u_rms": 0.35, "turbulent_beta": 10.0, "tau_omega": 0.7}
 """The invented turbulent box "Halden-1" in units c_s = Omega = H = 1: grid, half-height in H, velocity rms,
 midplane turbulent beta and correlation time (common-practice magnitudes, no single source)."""
 
@@ -168,7 +174,9 @@ def _plot(path: Path, curves: dict[str, dict[str, np.ndarray]]) -> None:
     fig.savefig(path, dpi=110)
 
 
-def demo_box_template(alpha: float = ALPHA) -> tuple[object, object, object]:
+def demo_box_template(
+    alpha: float = ALPHA,
+) -> tuple[TurbulenceProfiles, ClosureCoefficients, TurbulenceTemplate]:
     """Make the invented box, its profiles, closure coefficients and turbulence template.
 
     Returns
@@ -276,7 +284,9 @@ def _transport_section(out: Path, plots: bool) -> list[str]:
     return lines
 
 
-def _plot_transport(path: Path, profiles: object, coeffs: object, curves: dict[str, dict[str, np.ndarray]]) -> None:
+def _plot_transport(
+    path: Path, profiles: TurbulenceProfiles, coeffs: ClosureCoefficients, curves: dict[str, dict[str, np.ndarray]]
+) -> None:
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
@@ -293,7 +303,7 @@ def _plot_transport(path: Path, profiles: object, coeffs: object, curves: dict[s
     ax_c.set_ylabel("z / H")
     ax_c.legend(fontsize=7)
     ax_c.set_title("closure coefficients of the invented box", fontsize=9)
-    colours = {}
+    colours: dict[str, str] = {}
     for name, c in curves.items():
         system = name.split(" (")[0]
         colours.setdefault(system, f"C{len(colours)}")

@@ -1211,7 +1211,7 @@ def template_from_statistics(
         brunt_vaisala2=n2,
         sound_speed=np.ones(zz.size),
     )
-    opts = {"field_direction": (1.0, 0.0, 0.0)}
+    opts: dict[str, Any] = {"field_direction": (1.0, 0.0, 0.0)}
     opts.update(closure_options or {})
     coeffs = emf_coefficients(state, **opts)
     return _template_from_coefficients(name, zz, coeffs, alpha=alpha, eta_floor=eta_floor, top=top)

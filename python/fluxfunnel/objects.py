@@ -506,7 +506,8 @@ class CompactObject:
             magnetic_moment=np.asarray(self.magnetic_moment, dtype=np.float64),
             mdot=md,
         )
-        edge, trunc, isco, code = _core.objects_inner_edge(*arrays, float(xi), bool(prograde))
+        mass, spin, radius, moment, rate = arrays
+        edge, trunc, isco, code = _core.objects_inner_edge(mass, spin, radius, moment, rate, float(xi), bool(prograde))
         inputs = (self.mass, self.spin, self.radius, self.surface_field, mdot)
         set_by: NDArray[Any] = _SETTERS[code]
         scalar = all(np.ndim(x) == 0 for x in inputs)

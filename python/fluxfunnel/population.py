@@ -297,7 +297,12 @@ def _rust_sweep(
     with tqdm(total=n, disable=quiet, unit="system") as bar:
         for lo in range(0, n, chunk):
             sl = [np.ascontiguousarray(c[lo : lo + chunk]) for c in cols]
-            parts.append(_core.population_sweep(*sl, template, alpha, n_r, 129, (thr, 0.1, 0.05), disk))
+            mass, mdot, field, r_in_c, r_out_c = sl
+            parts.append(
+                _core.population_sweep(
+                    mass, mdot, field, r_in_c, r_out_c, template, alpha, n_r, 129, (thr, 0.1, 0.05), disk
+                )
+            )
             bar.update(sl[0].size)
     crit, reached, flux, tan_in, valid = (np.concatenate([p[k] for p in parts]) for k in range(5))
     if not np.all(valid):
